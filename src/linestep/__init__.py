@@ -1,0 +1,55 @@
+"""linestep: line-search and step-size controllers for gradient-based fitting loops.
+
+Public names, by group:
+
+=================  ==========================================================
+Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
+                   `Controller`
+Searches           `Armijo`, `Goldstein`
+Rules              `Fixed`, `Fallback`
+Driver           `descend`, `Run`, `History`, `SteepestDescent`
+Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
+                   `ScaledTrial`
+=================  ==========================================================
+"""
+
+from linestep import stopping
+from linestep._descend import History, Run, descend
+from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTrial
+from linestep._objective import Objective
+from linestep._step import Controller, Evaluations, Status, Step, Trial
+from linestep.directions import SteepestDescent
+from linestep.rules.fallback import Fallback
+from linestep.rules.fixed import Fixed
+from linestep.searches.armijo import Armijo
+from linestep.searches.goldstein import Goldstein
+
+__all__ = [
+    "Armijo",
+    "Controller",
+    "Evaluations",
+    "Fallback",
+    "Fixed",
+    "Goldstein",
+    "History",
+    "Objective",
+    "PreviousTrial",
+    "QuadraticTrial",
+    "Run",
+    "ScaledTrial",
+    "Status",
+    "SteepestDescent",
+    "Step",
+    "Trial",
+    "UnitTrial",
+    "descend",
+    "stopping",
+]
+
+__version__ = "0.1.0"
+
+for _name in __all__:
+    _obj = globals()[_name]
+    if isinstance(_obj, type) or callable(_obj) and not isinstance(_obj, type(stopping)):
+        _obj.__module__ = "linestep"
+del _name, _obj

@@ -1,0 +1,266 @@
+"""The base class every controller derives from (template method).
+
+`StepController.__call__` owns the bookkeeping shared by all controllers; a
+controller implements one private hook, `_search`. The contract for
+implementers:
+
+1. `_search(ray, first)` receives a `Ray` whose origin holds x, f(x), ∇f(x)
+   and φ'(0) < 0 (∇f and φ'(0) may be None for rules that set
+   ``needs_gradient = False`` when the caller gave no gradient), and `first`,
+   the initial trial step from the controller's ``initial`` strategy.
+2. It evaluates only through the ray (``ray.value(t)``,
+   ``ray.value_and_slope(t)``) and never counts evaluations itself.
+3. It returns ``(point, status)`` or ``(point, status, message)``: the ray
+   `Point` to move to, or None to leave x unchanged; a `Status`; an optional
+   sentence replacing the status's default message.
+4. It never builds a `Step` and never raises for numeric trouble; the ray
+   raises `BudgetSpent` when the budget is gone and the base returns the best
+   sufficient-decrease point found (or x unchanged) with `max_evaluations`.
+5. State carried between calls lives on the instance and `_reset_state()`
+   clears it; the base keeps a `Memory` of the last accepted step for the
+   initial-step strategies.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from linestep import _array, _initial, _validate
+from linestep._objective import Objective, as_objective
+from linestep._ray import BudgetSpent, Point, Ray
+from linestep._step import MESSAGES, Evaluations, Status, Step
+
+_NDARRAY = np.ndarray
+_ACCEPTED = Status.accepted
+_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
+# Evaluations records are immutable, so the common small counts are shared.
+_EVALUATIONS = {(v, g): Evaluations(values=v, gradients=g) for v in range(32) for g in range(32)}
+
+
+def _evaluations(values: int, gradients: int) -> Evaluations:
+    record = _EVALUATIONS.get((values, gradients))
+    if record is None:
+        record = Evaluations(values=values, gradients=gradients)
+    return record
+
+
+_STATIONARY = "The gradient at x is zero, so x is stationary; the step is 0."
+
+
+class StepController:
+    """Base class of all linestep controllers; see the module docstring for the contract."""
+
+    #: Whether φ'(0) is required (searches) or optional (rules).
+    needs_gradient = True
+    #: Whether f(x) is required before the hook runs.
+    needs_value = True
+    #: Default sufficient-decrease constant used to track the best point.
+    c1 = 0.0
+    #: Most points evaluated along the ray per call.
+    max_evaluations = 40
+    #: Keep every trial on the returned Step.
+    record_trials = False
+
+    def __init__(self) -> None:
+        self._memory = _initial.Memory()
+        self.initial: Any = _initial.UnitTrial()
+
+    #: Constructor arguments shown by repr, in order (each is an attribute).
+    _fields: tuple[str, ...] = ()
+
+    def __repr__(self) -> str:
+        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
+        return f"{type(self).__name__}({arguments})"
+
+    # -- public protocol ---------------------------------------------------------
+    def __call__(self, objective: Any, x: Any, direction: Any, *, value: Any = None,
+                 gradient: Any = None) -> Step:
+        if objective.__class__ is not Objective:
+            objective = as_objective(objective)
+        start_values, start_gradients = objective.values, objective.gradients
+        if (value is not None and gradient is not None and x.__class__ is _NDARRAY
+                and direction.__class__ is _NDARRAY and gradient.__class__ is _NDARRAY
+                and x.ndim == 1 and x.dtype.kind == "f" and direction.dtype.kind == "f"
+                and gradient.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
+            # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
+            # A finite x·x, g·d and f prove x, g, d and f finite (see `_check_slope`).
+            slope = float(gradient @ direction)
+            value = float(value)
+            if math.isfinite(slope) and math.isfinite(value) and math.isfinite(float(x @ x)):
+                origin = Point(0.0, x, value, gradient, slope)
+            else:
+                origin = self._origin(objective, *_check_point_and_direction(x, direction),
+                                      value, gradient)
+        else:
+            x, direction = _check_point_and_direction(x, direction)
+            origin = self._origin(objective, x, direction, value, gradient)
+        if origin.slope is not None and not origin.slope < 0.0:
+            return self._no_descent(objective, origin, start_values, start_gradients)
+        ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
+                  self.record_trials)
+        try:
+            outcome = self._search(ray, self._first_trial(ray))
+        except BudgetSpent:
+            outcome = (ray.best, Status.max_evaluations)
+        return self._finish(ray, outcome, start_values, start_gradients)
+
+    def reset(self) -> None:
+        """Forget everything carried between calls."""
+        self._memory = _initial.Memory()
+        self._reset_state()
+
+    # -- hooks -------------------------------------------------------------------
+    def _search(self, ray: Ray, first: float) -> tuple:
+        raise NotImplementedError
+
+    def _reset_state(self) -> None:
+        """Clear controller-specific state (override when there is any)."""
+
+    def _first_trial(self, ray: Ray) -> float:
+        guess = self.initial.guess(self._memory, ray)
+        if 0.0 < guess < math.inf:
+            return guess
+        return 1.0
+
+    def _remember(self, ray: Ray, point: Point | None, status: Status) -> None:
+        memory = self._memory
+        memory.calls += 1
+        if point is not None and status is Status.accepted:
+            memory.size = point.size
+            memory.start_value = ray.origin.value
+            memory.slope = ray.origin.slope
+
+    # -- bookkeeping ---------------------------------------------------------------
+    def _origin(self, objective: Objective, x: Any, direction: Any, value: Any,
+                gradient: Any) -> Point:
+        supplied = gradient is not None
+        if supplied:
+            gradient = _check_gradient(gradient, x)
+        elif self.needs_gradient:
+            if not objective.has_gradient:
+                raise TypeError(
+                    f"{type(self).__name__} needs the gradient at x: pass `gradient=` or an "
+                    "objective with a gradient, such as `(fun, grad)`, `Objective(fun, grad)` "
+                    "or `Objective(fun_and_grad, fused=True)`."
+                )
+            if value is None and objective.fused:
+                value, gradient = objective.value_and_gradient(x)
+            else:
+                gradient = objective.gradient(x)
+            gradient = _check_gradient(gradient, x, supplied=False)
+        if gradient is None:
+            slope = None
+            if not _array.all_finite(direction):
+                raise ValueError("`direction` must be finite; it contains NaN or infinity.")
+        else:
+            slope = _array.dot(gradient, direction)
+            if not math.isfinite(slope):
+                _check_slope(slope, gradient, direction, supplied)
+        if value is not None:
+            value = _check_value(value, supplied=True)
+        elif self.needs_value and (slope is None or slope < 0.0):
+            value = _check_value(objective.value(x), supplied=False)
+        return Point(0.0, x, value, gradient, slope)
+
+    def _no_descent(self, objective: Objective, origin: Point, start_values: int,
+                    start_gradients: int) -> Step:
+        stationary = origin.slope == 0.0 and _array.max_abs(origin.gradient) == 0.0
+        status = Status.accepted if stationary else Status.not_descent
+        evaluations = _evaluations(objective.values - start_values,
+                                   objective.gradients - start_gradients)
+        return Step(size=0.0, x=origin.x, value=origin.value, gradient=origin.gradient,
+                    evaluations=evaluations, status=status,
+                    message=_STATIONARY if stationary else MESSAGES[status],
+                    trials=() if self.record_trials else None)
+
+    def _finish(self, ray: Ray, outcome: tuple, start_values: int,
+                start_gradients: int) -> Step:
+        point, status = outcome[0], outcome[1]
+        objective = ray.objective
+        if status is _ACCEPTED and point is not None and len(outcome) == 2 \
+                and ray.trials is None and point.value < math.inf:
+            # Lean path for the common outcome.
+            self._remember(ray, point, status)
+            return Step(size=point.size, x=point.x, value=point.value, gradient=point.gradient,
+                        evaluations=_evaluations(objective.values - start_values,
+                                                 objective.gradients - start_gradients),
+                        status=status, message=_ACCEPTED_MESSAGE, trials=None)
+        message = outcome[2] if len(outcome) > 2 else None
+        origin = ray.origin
+        if point is not None and (
+            not point.value < math.inf
+            or (status is not Status.accepted and origin.value is not None
+                and point.value > origin.value)
+        ):
+            # A failed search never moves the user's point to a worse or non-finite place.
+            point = None
+        if point is None and status is Status.accepted:
+            point = origin
+        if point is None and status is not Status.accepted and ray.count \
+                and not ray.finite_seen:
+            status = Status.non_finite
+        self._remember(ray, point, status)
+        if point is None:
+            point = origin
+        evaluations = _evaluations(objective.values - start_values,
+                                   objective.gradients - start_gradients)
+        trials = tuple(ray.trials) if ray.trials is not None else None
+        return Step(size=point.size, x=point.x, value=point.value, gradient=point.gradient,
+                    evaluations=evaluations, status=status,
+                    message=message or MESSAGES[status], trials=trials)
+
+
+def _check_point_and_direction(x: Any, direction: Any) -> tuple[Any, Any]:
+    x = _array.as_point("x", x)
+    direction = _array.as_point("direction", direction)
+    if x.shape != direction.shape:
+        raise ValueError(
+            f"`direction` must have the shape of `x`; got {tuple(direction.shape)} for "
+            f"`direction` and {tuple(x.shape)} for `x`."
+        )
+    # x·x is finite only if x is (an overflowing square falls back to the exact test).
+    if not math.isfinite(_array.dot(x, x)) and not _array.all_finite(x):
+        raise ValueError("`x` must be finite; it contains NaN or infinity.")
+    return x, direction
+
+
+def _check_slope(slope: float, gradient: Any, direction: Any, supplied: bool) -> None:
+    """Raise for a non-finite direction or gradient; called only when φ'(0) is not finite.
+
+    A finite g·d proves both finite (any NaN/inf entry makes the sum NaN or inf),
+    so the exact element-wise tests run only in this rare case.
+    """
+    if not _array.all_finite(direction):
+        raise ValueError("`direction` must be finite; it contains NaN or infinity.")
+    if not _array.all_finite(gradient):
+        where = "`gradient`" if supplied else "The objective's gradient at `x`"
+        raise ValueError(f"{where} must be finite; it contains NaN or infinity.")
+    raise ValueError(
+        f"The slope gradient·direction overflowed ({slope!r}); rescale `direction`."
+    )
+
+
+def _check_gradient(gradient: Any, x: Any, *, supplied: bool = True) -> Any:
+    gradient = _array.as_point("gradient", gradient)
+    where = "`gradient`" if supplied else "The objective's gradient at `x`"
+    if gradient.shape != x.shape:
+        raise ValueError(
+            f"{where} must have the shape of `x`; got {tuple(gradient.shape)} and "
+            f"{tuple(x.shape)}."
+        )
+    return gradient
+
+
+def _check_value(value: Any, *, supplied: bool) -> float:
+    if supplied:
+        return _validate.finite_scalar("value", value)
+    value = float(value)
+    if not math.isfinite(value):
+        raise ValueError(
+            f"The objective's value at `x` must be finite; got {value!r}. Start from a "
+            "point where f is defined."
+        )
+    return value

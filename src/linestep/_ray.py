@@ -1,0 +1,190 @@
+"""The ray φ(t) = f(x + t·d), φ'(t) = ∇f(x + t·d)·d that every search walks along.
+
+Searches never call the user's functions: they ask the `Ray` for points. The ray
+
+* evaluates through the counting `Objective` (algorithms never count);
+* caches the last point, so asking for φ'(t) after φ(t) costs one gradient;
+* reads a non-finite value or gradient as φ(t) = +inf, so every search
+  shrinks the step the same way and never returns a non-finite point;
+* keeps the best point that satisfies sufficient decrease, for the budget and
+  failure cases;
+* enforces the evaluation budget by raising `BudgetSpent`, which the base
+  controller catches.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from linestep import _array
+from linestep._objective import Objective
+from linestep._step import Trial
+
+# Relative spacing of float64; a step below ~EPS·‖x‖/‖d‖ no longer moves x.
+EPS = 2.220446049250313e-16
+INF = math.inf
+
+
+class BudgetSpent(Exception):
+    """Raised by the ray when a search asks for more points than its budget allows."""
+
+
+class Point:
+    """One point on the ray: size t, x + t·d, φ(t), ∇f there (or None) and φ'(t) (or None)."""
+
+    __slots__ = ("size", "x", "value", "gradient", "slope")
+
+    def __init__(self, size: float, x: Any, value: float, gradient: Any, slope: float | None):
+        self.size = size
+        self.x = x
+        self.value = value
+        self.gradient = gradient
+        self.slope = slope
+
+    def __repr__(self) -> str:
+        return f"Point(size={self.size!r}, value={self.value!r}, slope={self.slope!r})"
+
+    @property
+    def finite(self) -> bool:
+        return self.value < INF
+
+
+class Ray:
+    """φ and φ' along ``x + t·d`` for one controller call.
+
+    Parameters
+    ----------
+    objective : Objective
+    origin : Point
+        t = 0: x, f(x), ∇f(x) and φ'(0) (gradient and slope may be None for rules).
+    direction : array
+    max_evaluations : int
+        Most points evaluated along the ray in this call.
+    c1 : float
+        Sufficient-decrease constant used to track the best acceptable point.
+    record : bool
+        Keep a `Trial` for each point.
+    """
+
+    __slots__ = (
+        "objective", "origin", "direction", "max_evaluations", "c1", "count", "best",
+        "trials", "non_finite_seen", "finite_seen", "_last", "_rounding",
+    )
+
+    def __init__(self, objective: Objective, origin: Point, direction: Any,
+                 max_evaluations: int, c1: float = 0.0, record: bool = False) -> None:
+        self.objective = objective
+        self.origin = origin
+        self.direction = direction
+        self.max_evaluations = max_evaluations
+        self.c1 = c1
+        self.count = 0
+        self.best: Point | None = None
+        self.trials: list[Trial] | None = [] if record else None
+        self.non_finite_seen = False
+        self.finite_seen = False
+        self._last: Point = origin
+        self._rounding: float | None = None
+
+    # -- evaluation -------------------------------------------------------------
+    def value(self, size: float) -> Point:
+        """φ(size); the gradient too when the objective is fused."""
+        last = self._last
+        if last.size == size:
+            return last
+        objective = self.objective
+        if objective.fused:
+            return self.value_and_slope(size)
+        if self.count >= self.max_evaluations:
+            raise BudgetSpent
+        self.count += 1
+        x_new = self.origin.x + size * self.direction
+        value = objective.value(x_new)
+        if not math.isfinite(value):
+            self.non_finite_seen = True
+            value = INF
+        return self._store(Point(size, x_new, value, None, None))
+
+    def value_and_slope(self, size: float) -> Point:
+        """φ(size) and φ'(size); reuses a cached value at the same size."""
+        last = self._last
+        objective = self.objective
+        if last.size == size:
+            if last.slope is not None or last.value == INF:
+                return last
+            # The value is cached: one gradient evaluation completes the point.
+            gradient = objective.gradient(last.x)
+            return self._complete(last, gradient)
+        x_new = self._take(size)
+        value, gradient = objective.value_and_gradient(x_new)
+        if not math.isfinite(value):
+            self.non_finite_seen = True
+            return self._store(Point(size, x_new, INF, gradient, None))
+        point = Point(size, x_new, value, gradient, None)
+        return self._complete(point, gradient, fresh=True)
+
+    def _complete(self, point: Point, gradient: Any, *, fresh: bool = False) -> Point:
+        slope = _array.dot(gradient, self.direction)
+        point.gradient = gradient
+        if math.isfinite(slope):
+            point.slope = slope
+        else:
+            self.non_finite_seen = True
+            point.value = INF
+        if fresh:
+            return self._store(point)
+        if self.trials is not None and self.trials:
+            self.trials[-1] = Trial(size=point.size, value=point.value, slope=point.slope)
+        if point.value == INF and self.best is point:
+            self.best = None
+        return point
+
+    def _take(self, size: float) -> Any:
+        if self.count >= self.max_evaluations:
+            raise BudgetSpent
+        self.count += 1
+        return self.origin.x + size * self.direction
+
+    def _store(self, point: Point) -> Point:
+        self._last = point
+        if self.trials is not None:
+            self.trials.append(Trial(size=point.size, value=point.value, slope=point.slope))
+        value = point.value
+        if value < INF:
+            self.finite_seen = True
+            origin = self.origin
+            slope, reference = origin.slope, origin.value
+            if reference is not None and (
+                value < reference if slope is None
+                else value <= reference + self.c1 * point.size * slope
+            ):
+                best = self.best
+                if best is None or value < best.value:
+                    self.best = point
+        return point
+
+    # -- conditions shared by the searches -------------------------------------
+    def sufficient_decrease(self, point: Point, c1: float) -> bool:
+        """Armijo: φ(t) ≤ φ(0) + c1·t·φ'(0) (plain decrease when φ'(0) is unknown)."""
+        origin = self.origin
+        if origin.slope is None:
+            return point.value < origin.value
+        return point.value <= origin.value + c1 * point.size * origin.slope
+
+    def rounding_size(self) -> float:
+        """The step below which x + t·d differs from x only at rounding level."""
+        if self._rounding is None:
+            x = self.origin.x
+            eps = float(np.finfo(x.dtype).eps) if hasattr(x, "dtype") else EPS
+            scale = max(1.0, _array.max_abs(x))
+            length = _array.max_abs(self.direction)
+            self._rounding = eps * scale / length if length > 0 else INF
+        return self._rounding
+
+    @property
+    def last(self) -> Point:
+        """The most recently evaluated point (the origin before any evaluation)."""
+        return self._last

@@ -1,0 +1,81 @@
+"""Argument checks shared by every public class.
+
+Each check raises at once with the argument named in backticks, the bad value
+and the fix. Numeric trouble met during a search is never raised: it becomes a
+`Status`.
+"""
+
+from __future__ import annotations
+
+import math
+import numbers
+from typing import Any
+
+
+def real(name: str, value: Any) -> float:
+    """Return `value` as a float, or raise TypeError naming `name`."""
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        raise TypeError(f"`{name}` must be a real number; got {value!r}.")
+    return float(value)
+
+
+def integer(name: str, value: Any, *, minimum: int = 1) -> int:
+    """Return `value` as an int >= `minimum`."""
+    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
+        raise TypeError(f"`{name}` must be an integer; got {value!r}.")
+    if value < minimum:
+        raise ValueError(f"`{name}` must be >= {minimum}; got {value!r}.")
+    return int(value)
+
+
+def open_unit(name: str, value: Any) -> float:
+    """A number strictly inside (0, 1)."""
+    value = real(name, value)
+    if not 0.0 < value < 1.0:
+        raise ValueError(f"`{name}` must satisfy 0 < {name} < 1; got {name}={value!r}.")
+    return value
+
+
+def positive(name: str, value: Any, *, allow_inf: bool = False) -> float:
+    """A number > 0 (finite unless `allow_inf`)."""
+    value = real(name, value)
+    if not value > 0.0 or (math.isinf(value) and not allow_inf):
+        kind = "a positive number" if allow_inf else "a finite positive number"
+        raise ValueError(f"`{name}` must be {kind}; got {name}={value!r}.")
+    return value
+
+
+def nonnegative(name: str, value: Any) -> float:
+    """A finite number >= 0."""
+    value = real(name, value)
+    if not (value >= 0.0 and math.isfinite(value)):
+        raise ValueError(f"`{name}` must be a finite number >= 0; got {name}={value!r}.")
+    return value
+
+
+def curvature_pair(c1: Any, c2: Any) -> tuple[float, float]:
+    """Check 0 < c1 <= c2 < 1 (c1 = c2 is legal: Moré–Thuente 1994 use it)."""
+    c1 = open_unit("c1", c1)
+    c2 = open_unit("c2", c2)
+    if c1 > c2:
+        raise ValueError(f"`c2` must satisfy c1 <= c2 < 1; got c1={c1!r}, c2={c2!r}.")
+    return c1, c2
+
+
+def choice(name: str, value: Any, options: tuple[str, ...]) -> str:
+    """One of a fixed set of option strings."""
+    if value not in options:
+        listed = ", ".join(repr(o) for o in options)
+        raise ValueError(f"`{name}` must be one of {listed}; got {value!r}.")
+    return value
+
+
+def finite_scalar(name: str, value: Any) -> float:
+    """A finite float (used for values supplied by the caller)."""
+    try:
+        result = float(value)
+    except (TypeError, ValueError):
+        raise TypeError(f"`{name}` must be a real scalar; got {value!r}.") from None
+    if not math.isfinite(result):
+        raise ValueError(f"`{name}` must be finite; got {name}={result!r}.")
+    return result

@@ -1,0 +1,1 @@
+"""Step rules: each picks the step without searching (and may evaluate once as a guard)."""

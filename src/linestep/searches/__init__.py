@@ -1,0 +1,1 @@
+"""Line searches: each evaluates along the ray until its conditions hold."""
