@@ -492,7 +492,7 @@ def test_default_members_and_order():
         Stall,
     ]
     assert repr(stop) == (
-        "Divergence(bound=1e+100, growth=None) | GradientNorm(atol=1e-06, rtol=1e-08, "
+        "Divergence(bound=1e+100, growth=100000000.0) | GradientNorm(atol=1e-06, rtol=1e-08, "
         "norm=inf) | ValueChange(atol=0.0, rtol=1e-12, window=5) | MaxIterations(10000) | "
         "Stall(iterations=100, rtol=0.0)"
     )
@@ -541,16 +541,24 @@ def fixed_rate_run(rate, stop):
 
 
 def test_default_ends_a_too_large_fixed_rate_as_failed():
-    # Rate 3: f = 25**(k + 1) first exceeds 1e100 at k = 71.
+    # Rate 3: f = 25·25**k; the growth limit f0 + 1e8·f0 = 2.5e9 + 25 is first passed
+    # at k = 6 (25**7 ≈ 6.1e9).
     k, verdict = fixed_rate_run(3.0, stopping.default())
-    assert (k, verdict.kind) == (71, Kind.failed)
+    assert (k, verdict.kind) == (6, Kind.failed)
     assert verdict.criterion.startswith("Divergence(")
+    # Without the growth limit only the absolute bound remains: 25**(k + 1) > 1e100 at k = 71.
+    k, verdict = fixed_rate_run(3.0, stopping.default(growth=None))
+    assert (k, verdict.kind) == (71, Kind.failed)
     assert "exceeds the bound 1e+100 at iteration 71" in verdict.reason
 
 
 def test_default_ends_a_slowly_climbing_fixed_rate_as_failed():
-    # Rate 1.5: f = 25 * 4**k climbs; the stall patience (100) runs out first.
+    # Rate 1.5: f = 25·4**k passes 25 + 1e8·25 at k = 14 (4**14 ≈ 2.7e8).
     k, verdict = fixed_rate_run(1.5, stopping.default())
+    assert (k, verdict.kind) == (14, Kind.failed)
+    assert verdict.criterion.startswith("Divergence(")
+    # With the growth limit off, the stall patience (100) runs out first.
+    k, verdict = fixed_rate_run(1.5, stopping.default(growth=None))
     assert (k, verdict.kind) == (100, Kind.failed)
     assert verdict.criterion.startswith("Stall(")
     assert verdict.reason.startswith(

@@ -93,6 +93,8 @@ DEFAULT_VALUE_WINDOW = 5  # one short line-search step must not end the run
 DEFAULT_MAX_ITERATIONS = 10_000
 DEFAULT_STALL_ITERATIONS = 100  # leaves room for nonmonotone methods' climbs
 DEFAULT_BOUND = 1e100  # far above any sane objective, far below overflow
+# In default(): a value 1e8·max(1, |f0|) above the start is a blow-up, not a nonmonotone climb.
+DEFAULT_GROWTH = 1e8
 
 
 # --------------------------------------------------------------------------- records
@@ -796,12 +798,13 @@ def default(
     seconds: float | None = None,
     stall_iterations: int = DEFAULT_STALL_ITERATIONS,
     bound: float = DEFAULT_BOUND,
+    growth: float | None = DEFAULT_GROWTH,
 ) -> AnyOf:
     """A fresh combination of stopping rules suited to most runs.
 
     In order of precedence::
 
-        Divergence(bound=1e100, growth=None)
+        Divergence(bound=1e100, growth=1e8)
         | GradientNorm(atol=1e-06, rtol=1e-08, norm=inf)
         | ValueChange(atol=0.0, rtol=1e-12, window=5)
         | MaxIterations(10000)
@@ -830,6 +833,10 @@ def default(
         `Stall` patience.
     bound : float
         `Divergence` bound on ``|f|``.
+    growth : float or None
+        `Divergence` growth limit: a value above f0 + growth·max(1, |f0|) fails the
+        run, so a fixed rate that is too large stops within a few iterations of
+        blowing up (None switches it off).
 
     Returns
     -------
@@ -837,7 +844,7 @@ def default(
         New criterion objects on every call; none is shared between runs.
     """
     criteria: list[Criterion] = [
-        Divergence(bound=bound),
+        Divergence(bound=bound, growth=growth),
         GradientNorm(atol=gradient_atol, rtol=gradient_rtol),
         ValueChange(atol=0.0, rtol=value_rtol, window=value_window),
         MaxIterations(max_iterations),

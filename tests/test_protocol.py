@@ -1,0 +1,246 @@
+"""One conformance suite, run against every controller linestep exports.
+
+Each controller must follow the protocol of DESIGN.md §2 the same way: the
+same call signature, the same bookkeeping, the same behaviour at the edges.
+Method-specific conditions are checked in the per-method test files.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+import linestep
+from linestep import Status, Step
+from linestep._controller import StepController
+
+
+def _factories() -> dict[str, object]:
+    """How to build each exported controller for the suite (name -> factory)."""
+    factories = {
+        "Armijo": lambda: linestep.Armijo(),
+        "Goldstein": lambda: linestep.Goldstein(),
+        "Fixed": lambda: linestep.Fixed(0.1),
+        "Fallback": lambda: linestep.Fallback(linestep.Fixed(0.1), linestep.Armijo()),
+    }
+    optional = {
+        "Schedule": lambda: linestep.Schedule.exponential(0.2, rate=0.9),
+        "Wolfe": lambda: linestep.Wolfe(),
+        "MoreThuente": lambda: linestep.MoreThuente(),
+        "HagerZhang": lambda: linestep.HagerZhang(),
+        "NonmonotoneArmijo": lambda: linestep.NonmonotoneArmijo(),
+        "BarzilaiBorwein": lambda: linestep.BarzilaiBorwein(),
+        "Polyak": lambda: linestep.Polyak(f_min=0.0),
+    }
+    for name, factory in optional.items():
+        if hasattr(linestep, name):
+            factories[name] = factory
+    return factories
+
+
+FACTORIES = _factories()
+# Controllers that only accept the negative gradient as direction (documented).
+NEGATIVE_GRADIENT_ONLY = {"BarzilaiBorwein", "Polyak"}
+
+
+def test_every_exported_controller_is_in_the_suite():
+    exported = {
+        name for name in linestep.__all__
+        if isinstance(getattr(linestep, name), type)
+        and issubclass(getattr(linestep, name), StepController)
+    }
+    assert exported == set(FACTORIES)
+
+
+def quadratic(scale: float = 1.0):
+    """f(x) = scale/2·‖x − 1‖² (any shape); minimiser all ones, f* = 0."""
+
+    def fun(x):
+        r = np.asarray(x, dtype=float) - 1.0
+        return 0.5 * scale * float(np.sum(r * r))
+
+    def grad(x):
+        return scale * (x - 1.0)
+
+    return fun, grad
+
+
+def counted(fun, grad):
+    return linestep.Objective(fun, grad)
+
+
+parametrize = pytest.mark.parametrize("name", sorted(FACTORIES))
+
+
+@parametrize
+def test_returns_a_step_whose_counts_match_the_objective(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    objective = counted(fun, grad)
+    x = np.array([3.0, -2.0, 0.5])
+    before = objective.evaluations
+    step = controller(objective, x, -grad(x))
+    assert isinstance(step, Step)
+    assert isinstance(step.status, Status)
+    assert step.evaluations == objective.evaluations - before
+    assert np.all(np.isfinite(step.x))
+    assert isinstance(step.message, str) and step.message
+    assert step.ok is (step.status is Status.accepted)
+    if step.size > 0:
+        np.testing.assert_allclose(step.x, x - step.size * grad(x), rtol=1e-15, atol=0)
+        assert step.value == pytest.approx(fun(step.x), rel=1e-15)
+
+
+@parametrize
+def test_values_supplied_are_not_evaluated_again(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    objective = counted(fun, grad)
+    x = np.array([3.0, -2.0])
+    step = controller(objective, x, -grad(x), value=fun(x), gradient=grad(x))
+    # Only points along the ray are evaluated: at most one value and gradient per trial.
+    assert objective.values == step.evaluations.values
+    assert step.evaluations.values >= 1
+
+
+@parametrize
+def test_not_descent_leaves_x_unchanged_and_evaluates_nothing(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    objective = counted(fun, grad)
+    x = np.array([3.0, -2.0])
+    if name in NEGATIVE_GRADIENT_ONLY:
+        with pytest.raises(ValueError, match="`direction`"):
+            controller(objective, x, grad(x), value=fun(x), gradient=grad(x))
+        return
+    step = controller(objective, x, grad(x), value=fun(x), gradient=grad(x))
+    assert step.status is Status.not_descent
+    assert step.x is x and step.size == 0.0
+    assert step.evaluations.total == 0 and objective.evaluations.total == 0
+
+
+@parametrize
+def test_stationary_point_is_kept(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    x = np.ones(4)
+    step = controller((fun, grad), x, -grad(x), value=fun(x), gradient=grad(x))
+    assert step.size == 0.0
+    np.testing.assert_array_equal(step.x, x)
+    assert step.ok
+    assert "stationary" in step.message
+
+
+@parametrize
+def test_a_failed_step_never_makes_f_worse(name):
+    # A direction so long that every trial overshoots: f is never allowed to rise
+    # unless the controller accepts the rise by design (a fixed or scheduled rate).
+    controller = FACTORIES[name]()
+    fun, grad = quadratic(scale=1e6)
+    x = np.array([1.5, 0.5])
+    step = controller((fun, grad), x, -grad(x))
+    assert np.all(np.isfinite(step.x))
+    if not step.ok:
+        assert fun(step.x) <= fun(x)
+
+
+@parametrize
+def test_non_finite_region_shrinks_the_step(name):
+    # f is NaN beyond distance 1 of the origin; the direction points far past it.
+    def fun(x):
+        return float(x @ x) if float(x @ x) < 1.0 else math.nan
+
+    def grad(x):
+        return 2 * x
+
+    controller = FACTORIES[name]()
+    x = np.array([0.5, 0.25])
+    step = controller((fun, grad), x, -40.0 * grad(x))
+    assert np.all(np.isfinite(step.x))
+    if step.size > 0:
+        assert math.isfinite(step.value) and step.value <= fun(x) + 1e-12 or step.ok
+    else:
+        np.testing.assert_array_equal(step.x, x)
+
+
+@parametrize
+def test_user_exception_propagates_unchanged(name):
+    class Boom(Exception):
+        pass
+
+    def fun(x):
+        raise Boom("from the objective")
+
+    controller = FACTORIES[name]()
+    x = np.array([1.0, 2.0])
+    with pytest.raises(Boom, match="from the objective"):
+        controller((fun, lambda x: 2 * x), x, -2 * x, gradient=2 * x)
+
+
+@parametrize
+def test_float32_stays_float32_and_shapes_are_kept(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    x = np.full((3, 2), 2.0, dtype=np.float32)
+    step = controller((fun, grad), x, -grad(x))
+    assert step.x.dtype == np.float32
+    assert step.x.shape == (3, 2)
+
+
+@parametrize
+def test_wrong_direction_shape_names_the_argument(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    with pytest.raises(ValueError, match="`direction`"):
+        controller((fun, grad), np.zeros(3), np.ones(2))
+
+
+@parametrize
+def test_non_finite_x_names_the_argument(name):
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    with pytest.raises(ValueError, match="`x`"):
+        controller((fun, grad), np.array([1.0, np.nan]), np.ones(2))
+
+
+@parametrize
+def test_reset_replays_the_same_steps(name):
+    fun, grad = quadratic(scale=3.0)
+
+    def sequence(controller):
+        x, sizes = np.array([4.0, -3.0]), []
+        for _ in range(5):
+            step = controller((fun, grad), x, -grad(x))
+            sizes.append(step.size)
+            x = step.x
+        return sizes
+
+    controller = FACTORIES[name]()
+    first = sequence(controller)
+    controller.reset()
+    assert sequence(controller) == first
+    assert sequence(FACTORIES[name]()) == first
+
+
+@parametrize
+def test_repr_rebuilds_the_controller(name):
+    controller = FACTORIES[name]()
+    namespace = {key: getattr(linestep, key) for key in linestep.__all__}
+    namespace["inf"] = math.inf
+    rebuilt = eval(repr(controller), namespace)  # noqa: S307 - our own repr
+    assert repr(rebuilt) == repr(controller)
+    assert type(rebuilt) is type(controller)
+
+
+@parametrize
+def test_descend_runs_with_every_controller(name):
+    fun, grad = quadratic(scale=2.0)
+    run = linestep.descend(
+        (fun, grad), np.array([3.0, -1.0]), controller=FACTORIES[name](),
+        stop=linestep.stopping.GradientNorm(atol=1e-6, rtol=0)
+        | linestep.stopping.MaxIterations(5000),
+    )
+    assert run.converged, run.verdict
+    np.testing.assert_allclose(run.x, 1.0, atol=1e-5)
