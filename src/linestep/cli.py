@@ -26,10 +26,14 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: Sequence[str] | None = None) -> int:
     args = build_parser().parse_args(argv)
-    if args.command == "demo":
-        from linestep._demo import run_demo
+    try:
+        if args.command == "demo":
+            from linestep._demo import run_demo
 
-        run_demo()
+            run_demo()
+            return 0
+    except BrokenPipeError:  # output piped into `head` and closed early
+        sys.stderr.close()
         return 0
     return 2  # pragma: no cover - argparse rejects unknown commands
 
