@@ -6,7 +6,7 @@ Public names, by group:
 Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
                    `Controller`
 Searches           `Armijo`, `Goldstein`
-Rules              `Fixed`, `Fallback`
+Rules              `Fixed`, `Schedule`, `Fallback`
 Driver           `descend`, `Run`, `History`, `SteepestDescent`
 Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
                    `ScaledTrial`
@@ -21,6 +21,7 @@ from linestep._step import Controller, Evaluations, Status, Step, Trial
 from linestep.directions import SteepestDescent
 from linestep.rules.fallback import Fallback
 from linestep.rules.fixed import Fixed
+from linestep.rules.schedule import Schedule
 from linestep.searches.armijo import Armijo
 from linestep.searches.goldstein import Goldstein
 
@@ -36,6 +37,7 @@ __all__ = [
     "PreviousTrial",
     "QuadraticTrial",
     "Run",
+    "Schedule",
     "ScaledTrial",
     "Status",
     "SteepestDescent",
