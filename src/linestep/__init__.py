@@ -7,7 +7,8 @@ Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
                    `Controller`
 Searches           `Armijo`, `Goldstein`
 Rules              `Fixed`, `Schedule`, `Fallback`
-Driver           `descend`, `Run`, `History`, `SteepestDescent`
+Driver           `descend`, `Run`, `History`
+Directions       `SteepestDescent`, `LBFGS`, `NonlinearCG`
 Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
                    `ScaledTrial`
 =================  ==========================================================
@@ -18,7 +19,7 @@ from linestep._descend import History, Run, descend
 from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTrial
 from linestep._objective import Objective
 from linestep._step import Controller, Evaluations, Status, Step, Trial
-from linestep.directions import SteepestDescent
+from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
 from linestep.rules.fallback import Fallback
 from linestep.rules.fixed import Fixed
 from linestep.rules.schedule import Schedule
@@ -33,6 +34,8 @@ __all__ = [
     "Fixed",
     "Goldstein",
     "History",
+    "LBFGS",
+    "NonlinearCG",
     "Objective",
     "PreviousTrial",
     "QuadraticTrial",
