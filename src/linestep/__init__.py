@@ -5,12 +5,12 @@ Public names, by group:
 =================  ==========================================================
 Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
                    `Controller`
-Searches           `Armijo`, `Goldstein`
+Searches           `Armijo`, `Goldstein`, `HagerZhang`
 Rules              `Fixed`, `Schedule`, `Fallback`
 Driver           `descend`, `Run`, `History`
 Directions       `SteepestDescent`, `LBFGS`, `NonlinearCG`
 Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
-                   `ScaledTrial`
+                   `ScaledTrial`, `HagerZhangStart`
 =================  ==========================================================
 """
 
@@ -25,6 +25,7 @@ from linestep.rules.fixed import Fixed
 from linestep.rules.schedule import Schedule
 from linestep.searches.armijo import Armijo
 from linestep.searches.goldstein import Goldstein
+from linestep.searches.hager_zhang import HagerZhang, HagerZhangStart
 
 __all__ = [
     "Armijo",
@@ -33,6 +34,8 @@ __all__ = [
     "Fallback",
     "Fixed",
     "Goldstein",
+    "HagerZhang",
+    "HagerZhangStart",
     "History",
     "LBFGS",
     "NonlinearCG",

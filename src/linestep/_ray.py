@@ -159,7 +159,7 @@ class Ray:
             slope, reference = origin.slope, origin.value
             if reference is not None and (
                 value < reference if slope is None
-                else value <= reference + self.c1 * point.size * slope
+                else value - reference <= self.c1 * point.size * slope
             ):
                 best = self.best
                 if best is None or value < best.value:
@@ -168,11 +168,15 @@ class Ray:
 
     # -- conditions shared by the searches -------------------------------------
     def sufficient_decrease(self, point: Point, c1: float) -> bool:
-        """Armijo: φ(t) ≤ φ(0) + c1·t·φ'(0) (plain decrease when φ'(0) is unknown)."""
+        """Armijo: φ(t) − φ(0) ≤ c1·t·φ'(0) (plain decrease when φ'(0) is unknown).
+
+        Written as a difference so that a decrease below the float spacing of φ(0)
+        is not certified by rounding (φ(0) + tiny == φ(0)).
+        """
         origin = self.origin
         if origin.slope is None:
             return point.value < origin.value
-        return point.value <= origin.value + c1 * point.size * origin.slope
+        return point.value - origin.value <= c1 * point.size * origin.slope
 
     def rounding_size(self) -> float:
         """The step below which x + t·d differs from x only at rounding level."""

@@ -100,7 +100,7 @@ class Armijo(StepController):
         while True:
             point = ray.value(size)
             value = point.value
-            if value <= f0 + c1 * size * d0:
+            if value - f0 <= c1 * size * d0:  # as a difference: rounding cannot pass it
                 return point, Status.accepted
             if size <= ray.rounding_size():
                 return None, Status.step_too_small

@@ -86,9 +86,10 @@ class Goldstein(StepController):
         while True:
             point = ray.value(size)
             value = point.value
-            if value > f0 + c * size * d0:  # too long (non-finite reads as +inf)
+            change = value - f0  # non-finite reads as +inf: too long
+            if change > c * size * d0:  # too long
                 long = size
-            elif value < f0 + (1.0 - c) * size * d0:  # too short
+            elif change < (1.0 - c) * size * d0:  # too short
                 short = size
             else:
                 return point, Status.accepted

@@ -1,0 +1,360 @@
+"""The Hager–Zhang line search: approximate Wolfe conditions and secant² steps."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from linestep import _array, _initial, _validate
+from linestep._controller import StepController
+from linestep._interpolate import quadratic_from_slopes
+from linestep._ray import EPS, Point, Ray
+from linestep._step import Status
+
+__all__ = ["HagerZhang", "HagerZhangStart"]
+
+# After a non-finite trial the next one is this fraction of the way from the lower
+# end of the bracket (our safeguard, the same factor as Armijo's; not in the paper).
+NON_FINITE_SHRINK = 0.1
+# A bracket narrower than this many float64 spacings of its upper end has no interior
+# point left to try (the midpoint rounds to an end), whatever the rounding level in x.
+SIZE_SPACINGS = 4.0
+
+_WOLFE = (
+    "The step satisfies the Wolfe conditions: sufficient decrease with `c1` and "
+    "curvature with `c2`."
+)
+_APPROXIMATE = (
+    "The step satisfies the approximate Wolfe conditions (2·c1 − 1)·φ'(0) ≥ φ'(t) ≥ "
+    "c2·φ'(0) with φ(t) ≤ φ(0) + ε_k, while the Wolfe decrease test failed, as happens "
+    "near a minimiser where changes in f are at rounding level."
+)
+
+
+class _Stop(Exception):
+    """Ends the search from any depth: carries the outcome tuple for `_search`."""
+
+    def __init__(self, outcome: tuple) -> None:
+        super().__init__()
+        self.outcome = outcome
+
+
+class HagerZhang(StepController):
+    """Line search of Hager and Zhang: Wolfe or approximate Wolfe, secant² updates.
+
+    A trial t is accepted as soon as either the Wolfe conditions hold,
+
+    * φ(t) − φ(0) ≤ c1·t·φ'(0) and φ'(t) ≥ c2·φ'(0) ("T1"–"T2"),
+
+    or the approximate Wolfe conditions hold together with a bound on the rise,
+
+    * (2·c1 − 1)·φ'(0) ≥ φ'(t) ≥ c2·φ'(0) ("AW") and φ(t) ≤ φ(0) + ε_k
+
+    (Hager & Zhang 2005, §4; the labels T1, T2, AW and the step names B, U, S, L
+    below follow the papers as we recall them).
+
+    where ε_k = `epsilon`·C_k. The approximate conditions replace the decrease
+    test by a test on φ', which stays meaningful where differences in f are lost
+    to rounding: a test on values locates a minimiser to about √ε_mach, one on
+    slopes to about ε_mach (Hager & Zhang 2005, §4; recalled from memory).
+
+    Every trial evaluates φ and φ'. The first trial grows by `expand` until it
+    brackets a point with φ' ≥ 0 or with φ above φ(0) + ε_k (procedure *bracket*,
+    B0–B3); the bracket [a, b] then keeps φ'(a) < 0, φ(a) ≤ φ(0) + ε_k and
+    φ'(b) ≥ 0 and shrinks by secant² steps (S1–S4): a secant step on φ', and a
+    second secant step from the end it replaced. Each new point updates the bracket
+    by U0–U3; U3 (a point with φ' < 0 above φ(0) + ε_k) bisects with weight
+    `theta` (U3a–c). When a secant² step keeps more than `shrink_test` of the
+    width, the bracket is bisected (L2). Non-finite values count as "too long":
+    the next trial moves to a tenth of the way from the lower end.
+
+    The scale C_k of ε_k is the running average of Hager & Zhang (2006, §3),
+    Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f(x_k)| − C_{k−1})/Q_k with Q_{−1} = 0,
+    and Δ = `epsilon_memory`. The default Δ = 0 gives C_k = |f(x_k)|, the rule
+    of the 2005 paper, and keeps calls independent; Δ = 0.7 is CG_DESCENT's
+    choice (recalled from memory) and carries C_k between calls until `reset()`.
+
+    Parameters
+    ----------
+    c1 : float
+        δ, 0 < c1 < 1/2. Default 0.1 (Hager & Zhang 2005, §4; 2006, §3; recalled
+        from memory).
+    c2 : float
+        σ, c1 <= c2 < 1. Default 0.9 (same sources; recalled from memory).
+    epsilon : float
+        ε >= 0, the relative rise allowed by the approximate Wolfe test.
+        Default 1e-6 (same sources; recalled from memory).
+    theta : float
+        θ, 0 < theta < 1, position of the U3 bisection point. Default 0.5 (same
+        sources; recalled from memory).
+    shrink_test : float
+        γ, 0 < shrink_test < 1: bisect when a secant² step keeps more than this
+        fraction of the bracket. Default 0.66 (same sources; recalled from memory).
+    expand : float
+        ρ > 1, growth factor of the bracketing phase. Default 5 (Hager & Zhang 2006,
+        parameter list of CG_DESCENT; recalled from memory).
+    epsilon_memory : float
+        Δ, 0 <= epsilon_memory <= 1, weight of earlier |f| in C_k (see above).
+        Default 0 (the 2005 rule).
+    initial : float or trial strategy
+        The first trial (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
+        `ScaledTrial`, `HagerZhangStart` for the paper's I0 and I2, or a number).
+    max_size : float
+        Largest step tried; the bracketing phase stops there (our safeguard).
+    max_evaluations : int
+        Most trial points per call (each a value and a gradient).
+    record_trials : bool
+        Keep every trial on ``Step.trials``.
+
+    Returns
+    -------
+    Step
+        ``accepted``: the Wolfe or the approximate Wolfe conditions hold at `size`;
+        the message says which; `x` = x + size·d.
+        ``step_too_large``: φ still decreased at `max_size` (f may be unbounded
+        below); `x` is the best point with φ(t) ≤ φ(0) + c1·t·φ'(0).
+        ``interval_too_small``: the bracket collapsed to rounding level; `x` is the
+        best such point found, else unchanged (size 0).
+        ``max_evaluations``: budget spent; `x` as for ``interval_too_small``.
+        ``non_finite``: no trial had a finite value; `x` unchanged.
+        ``not_descent``: φ'(0) >= 0; `x` unchanged, nothing evaluated.
+
+    References
+    ----------
+    W. W. Hager and H. Zhang, "A new conjugate gradient method with guaranteed
+    descent and an efficient line search", SIAM J. Optim. 16(1):170–192, 2005, §4.
+    W. W. Hager and H. Zhang, "Algorithm 851: CG_DESCENT, a conjugate gradient
+    method with guaranteed descent", ACM TOMS 32(1):113–137, 2006.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep.searches.hager_zhang import HagerZhang
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> step = HagerZhang()((f, g), x, -g(x))   # t = 1 overshoots; one secant step
+    >>> step.status, step.size, step.value, step.evaluations
+    (Status.accepted, 0.5, 0.0, Evaluations(values=3, gradients=3))
+    """
+
+    _fields = ("c1", "c2", "epsilon", "theta", "shrink_test", "expand", "epsilon_memory",
+               "initial", "max_size", "max_evaluations", "record_trials")
+
+    def __init__(self, *, c1: float = 0.1, c2: float = 0.9, epsilon: float = 1e-6,
+                 theta: float = 0.5, shrink_test: float = 0.66, expand: float = 5.0,
+                 epsilon_memory: float = 0.0, initial: Any = 1.0, max_size: float = 1e10,
+                 max_evaluations: int = 40, record_trials: bool = False) -> None:
+        super().__init__()
+        self.c1, self.c2 = _validate.curvature_pair(c1, c2)
+        if not self.c1 < 0.5:
+            raise ValueError(
+                f"`c1` must satisfy 0 < c1 < 1/2 for the approximate Wolfe conditions; "
+                f"got c1={self.c1!r}."
+            )
+        self.epsilon = _validate.nonnegative("epsilon", epsilon)
+        self.theta = _validate.open_unit("theta", theta)
+        self.shrink_test = _validate.open_unit("shrink_test", shrink_test)
+        self.expand = _validate.positive("expand", expand)
+        if not self.expand > 1.0:
+            raise ValueError(
+                f"`expand` must be > 1 so that the bracketing phase grows; got "
+                f"expand={self.expand!r}."
+            )
+        self.epsilon_memory = _validate.real("epsilon_memory", epsilon_memory)
+        if not 0.0 <= self.epsilon_memory <= 1.0:
+            raise ValueError(
+                f"`epsilon_memory` must satisfy 0 <= epsilon_memory <= 1; got "
+                f"epsilon_memory={self.epsilon_memory!r}."
+            )
+        self.initial = _initial.resolve(initial)
+        self.max_size = _validate.positive("max_size", max_size)
+        self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
+        self.record_trials = bool(record_trials)
+        self._reset_state()
+
+    def _reset_state(self) -> None:
+        self._weight = 0.0  # Q_{k-1} of the running average
+        self._scale = 0.0  # C_{k-1}
+
+    def _epsilon_k(self, value: float) -> float:
+        """ε_k = ε·C_k after folding |f(x_k)| into the running average (2006, §3)."""
+        weight = 1.0 + self.epsilon_memory * self._weight
+        scale = self._scale + (abs(value) - self._scale) / weight
+        self._weight, self._scale = weight, scale
+        return self.epsilon * scale
+
+    def _search(self, ray: Ray, first: float) -> tuple:
+        walk = _Walk(self, ray, self._epsilon_k(ray.origin.value))
+        try:
+            low, high = walk.bracket(min(first, self.max_size))
+            shrink_test = self.shrink_test
+            width = high.size - low.size
+            while True:  # L1–L3
+                low, high = walk.secant2(low, high)
+                if high.size - low.size > shrink_test * width:
+                    low, high = walk.update(low, high, 0.5 * (low.size + high.size))
+                # From the second pass on: a fresh bracket is rarely at rounding level,
+                # and skipping the first check saves two array norms per call.
+                width = walk.check_width(low, high)
+        except _Stop as stop:
+            return stop.outcome
+
+
+class _Walk:
+    """One call's search: the thresholds as floats and the paper's procedures."""
+
+    __slots__ = ("ray", "f0", "d0", "c1", "limit", "curvature", "approximate", "theta",
+                 "expand", "max_size")
+
+    def __init__(self, search: HagerZhang, ray: Ray, epsilon_k: float) -> None:
+        origin = ray.origin
+        f0, d0 = origin.value, origin.slope
+        self.ray = ray
+        self.f0, self.d0, self.c1 = f0, d0, search.c1
+        self.limit = f0 + epsilon_k  # φ(0) + ε_k
+        self.curvature = search.c2 * d0  # σ·φ'(0)
+        self.approximate = (2.0 * search.c1 - 1.0) * d0  # (2δ − 1)·φ'(0)
+        self.theta = search.theta
+        self.expand = search.expand
+        self.max_size = search.max_size
+
+    def probe(self, size: float) -> Point:
+        """Evaluate φ and φ' at `size`; stop the search if the point is acceptable."""
+        point = self.ray.value_and_slope(size)
+        slope = point.slope  # None exactly when the point is not finite
+        if slope is not None and slope >= self.curvature:
+            # (T1) written as in the paper: φ(t) − φ(0) ≤ δ·t·φ'(0).
+            if point.value - self.f0 <= self.c1 * size * self.d0:
+                raise _Stop((point, Status.accepted, _WOLFE))
+            if slope <= self.approximate and point.value <= self.limit:
+                raise _Stop((point, Status.accepted, _APPROXIMATE))
+        return point
+
+    def check_width(self, low: Point, high: Point) -> float:
+        """The bracket's width; stops with ``interval_too_small`` at rounding level."""
+        width = high.size - low.size
+        if width <= SIZE_SPACINGS * EPS * high.size or width <= self.ray.rounding_size():
+            raise _Stop((self.ray.best, Status.interval_too_small))
+        return width
+
+    def bracket(self, size: float) -> tuple[Point, Point]:
+        """B0–B3: grow the trial until [a, b] holds a point with φ' ≥ 0."""
+        low = self.ray.origin
+        while True:
+            point = self.probe(size)
+            slope = point.slope
+            if slope is not None and slope >= 0.0:  # B1
+                return low, point
+            if slope is None or point.value > self.limit:  # B2 (non-finite: too long)
+                return self.bisect(low, point)
+            if size >= self.max_size:
+                raise _Stop((self.ray.best, Status.step_too_large))
+            low = point  # B3
+            size = min(self.expand * size, self.max_size)
+
+    def update(self, low: Point, high: Point, size: float) -> tuple[Point, Point]:
+        """U0–U3: the bracket after evaluating a point at `size`."""
+        if not low.size < size < high.size:  # U0
+            return low, high
+        point = self.probe(size)
+        slope = point.slope
+        if slope is not None:
+            if slope >= 0.0:  # U1
+                return low, point
+            if point.value <= self.limit:  # U2
+                return point, high
+        return self.bisect(low, point)  # U3 (non-finite: too long)
+
+    def bisect(self, low: Point, high: Point) -> tuple[Point, Point]:
+        """U3a–c: split [low, high] at weight θ until a point with φ' ≥ 0 turns up."""
+        theta, limit = self.theta, self.limit
+        while True:
+            width = self.check_width(low, high)
+            weight = theta if high.slope is not None else NON_FINITE_SHRINK
+            size = low.size + weight * width
+            if not low.size < size < high.size:  # θ near 0 or 1 meets float spacing
+                raise _Stop((self.ray.best, Status.interval_too_small))
+            point = self.probe(size)
+            slope = point.slope
+            if slope is not None:
+                if slope >= 0.0:  # U3a
+                    return low, point
+                if point.value <= limit:  # U3b
+                    low = point
+                    continue
+            high = point  # U3c
+
+    def secant2(self, low: Point, high: Point) -> tuple[Point, Point]:
+        """S1–S4: a secant step, then a second one from the end it replaced."""
+        size = quadratic_from_slopes(low.size, low.slope, high.size, high.slope)
+        if size is None or not low.size < size < high.size:  # U0 leaves [a, b]
+            return low, high
+        new_low, new_high = self.update(low, high, size)
+        if new_high.size == size:  # S2
+            second = quadratic_from_slopes(high.size, high.slope, size, new_high.slope)
+        elif new_low.size == size:  # S3
+            second = quadratic_from_slopes(low.size, low.slope, size, new_low.slope)
+        else:
+            return new_low, new_high
+        if second is None:
+            return new_low, new_high
+        return self.update(new_low, new_high, second)  # S4
+
+
+class HagerZhangStart:
+    """First trial by the rules I0 and I2 of Hager & Zhang (2006, §3).
+
+    I0 (no step accepted yet): t = fraction·‖x‖∞/‖g‖∞ when x ≠ 0, else
+    t = fraction·|f(x)|/‖g‖₂² when f(x) ≠ 0, else t = 1. These scale a step along
+    d = −g, as at the first iteration of CG_DESCENT. I2 (afterwards): t = growth
+    times the previous accepted step. The rule I1 (a quadratic through one extra
+    value) is not provided.
+
+    Parameters
+    ----------
+    fraction : float
+        ψ0, default 0.01 (Hager & Zhang 2006; recalled from memory).
+    growth : float
+        ψ2, default 2 (same source; recalled from memory).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep.searches.hager_zhang import HagerZhang, HagerZhangStart
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> search = HagerZhang(initial=HagerZhangStart(), record_trials=True)
+    >>> step = search((f, g), x, -g(x))   # I0: t = 0.01·4/8, then grown by 5
+    >>> [trial.size for trial in step.trials], step.status
+    ([0.005, 0.025, 0.125], Status.accepted)
+    >>> [trial.size for trial in search((f, g), step.x, -g(step.x)).trials]  # I2
+    [0.25]
+    """
+
+    def __init__(self, *, fraction: float = 0.01, growth: float = 2.0) -> None:
+        self.fraction = _validate.positive("fraction", fraction)
+        self.growth = _validate.positive("growth", growth)
+
+    def __repr__(self) -> str:
+        return f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r})"
+
+    def guess(self, memory: _initial.Memory, ray: Any) -> float:
+        if memory.size is not None:  # I2
+            return self.growth * memory.size
+        origin = ray.origin
+        gradient = origin.gradient
+        if gradient is None:
+            return 1.0
+        largest = _array.max_abs(gradient)
+        if largest == 0.0:
+            return 1.0
+        x_size = _array.max_abs(origin.x)
+        if x_size > 0.0:  # I0(a)
+            guess = self.fraction * x_size / largest
+        elif origin.value:  # I0(b)
+            guess = self.fraction * abs(origin.value) / _array.norm2(gradient) ** 2
+        else:  # I0(c)
+            guess = 1.0
+        return guess if math.isfinite(guess) and guess > 0.0 else 1.0
