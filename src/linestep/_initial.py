@@ -59,8 +59,8 @@ class ConstantTrial:
 
     __slots__ = ("size",)
 
-    def __init__(self, size: float) -> None:
-        self.size = _validate.positive("initial", size)
+    def __init__(self, size: float, *, name: str = "initial") -> None:
+        self.size = _validate.positive(name, size)
 
     def __repr__(self) -> str:
         return repr(self.size)
@@ -111,7 +111,7 @@ class PreviousTrial:
     def __init__(self, *, growth: float = 1.0, first: Any = 1.0,
                  max_size: float = math.inf) -> None:
         self.growth = _validate.positive("growth", growth)
-        self.first = resolve(first)
+        self.first = resolve(first, name="first")
         self.max_size = _validate.positive("max_size", max_size, allow_inf=True)
 
     def __repr__(self) -> str:
@@ -143,7 +143,7 @@ class QuadraticTrial:
     ENLARGE = 1.01
 
     def __init__(self, *, first: Any = 1.0, cap: float = math.inf) -> None:
-        self.first = resolve(first)
+        self.first = resolve(first, name="first")
         self.cap = _validate.positive("cap", cap, allow_inf=True)
 
     def __repr__(self) -> str:
@@ -162,13 +162,13 @@ class QuadraticTrial:
         return min(guess, self.cap)
 
 
-def resolve(initial: Any) -> Any:
-    """Turn the ``initial=`` argument into a strategy object."""
+def resolve(initial: Any, *, name: str = "initial") -> Any:
+    """Turn the ``initial=`` (or ``first=``) argument into a strategy object."""
     if hasattr(initial, "guess"):
         return initial
     if isinstance(initial, (int, float)) and not isinstance(initial, bool):
-        return ConstantTrial(initial)
+        return ConstantTrial(initial, name=name)
     raise TypeError(
-        "`initial` must be a positive number or a trial strategy such as UnitTrial(), "
+        f"`{name}` must be a positive number or a trial strategy such as UnitTrial(), "
         f"PreviousTrial(), QuadraticTrial() or ScaledTrial(); got {initial!r}."
     )

@@ -20,6 +20,8 @@ import math
 def quadratic_from_slope(a: float, fa: float, da: float, b: float, fb: float) -> float | None:
     """Minimiser of the quadratic with q(a)=fa, q'(a)=da, q(b)=fb (N&W eq. 3.57 when a=0)."""
     h = b - a
+    if h == 0.0:
+        return None
     curvature = fb - fa - da * h  # = c·h² with q(t) = fa + da·(t−a) + c·(t−a)²
     if not curvature > 0.0:
         return None
@@ -29,7 +31,7 @@ def quadratic_from_slope(a: float, fa: float, da: float, b: float, fb: float) ->
 
 def quadratic_from_slopes(a: float, da: float, b: float, db: float) -> float | None:
     """Secant step: the zero of the linear interpolant of φ' through (a, da), (b, db)."""
-    if da == db:
+    if da == db or a == b:
         return None
     t = b - db * (b - a) / (db - da)
     return t if math.isfinite(t) else None
@@ -97,4 +99,25 @@ def clip(t: float | None, low: float, high: float) -> float:
         return low
     if t > high:
         return high
+    return t
+
+
+def cubic_beyond(a: float, fa: float, da: float, b: float, fb: float,
+                 db: float) -> float | None:
+    """Minimiser of the cubic matching φ and φ' at a and b, when it lies beyond b.
+
+    "Beyond b" is the side of b away from a. Returns None unless the cubic
+    rises to +∞ in that direction and its local minimiser is there: the
+    extrapolation step of Moré–Thuente 1994 §4, case 3. With s = (t − a)/(b − a)
+    the cubic's s³ coefficient is (b − a)·(da + db) − 2·(fb − fa), which must be
+    positive.
+    """
+    h = b - a
+    if h == 0.0:
+        return None
+    if not h * (da + db) - 2.0 * (fb - fa) > 0.0:
+        return None
+    t = cubic_from_slopes(a, fa, da, b, fb, db)
+    if t is None or not (t - b) * h > 0.0:
+        return None
     return t

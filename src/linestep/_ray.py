@@ -71,7 +71,7 @@ class Ray:
 
     __slots__ = (
         "objective", "origin", "direction", "max_evaluations", "c1", "count", "best",
-        "trials", "non_finite_seen", "finite_seen", "_last", "_rounding",
+        "trials", "non_finite_seen", "finite_seen", "_runner_up", "_last", "_rounding",
     )
 
     def __init__(self, objective: Objective, origin: Point, direction: Any,
@@ -83,6 +83,7 @@ class Ray:
         self.c1 = c1
         self.count = 0
         self.best: Point | None = None
+        self._runner_up: Point | None = None
         self.trials: list[Trial] | None = [] if record else None
         self.non_finite_seen = False
         self.finite_seen = False
@@ -139,7 +140,7 @@ class Ray:
         if self.trials is not None and self.trials:
             self.trials[-1] = Trial(size=point.size, value=point.value, slope=point.slope)
         if point.value == INF and self.best is point:
-            self.best = None
+            self.best = self._runner_up
         return point
 
     def _take(self, size: float) -> Any:
@@ -163,6 +164,8 @@ class Ray:
             ):
                 best = self.best
                 if best is None or value < best.value:
+                    # Kept in case the new best's gradient turns out non-finite.
+                    self._runner_up = best
                     self.best = point
         return point
 

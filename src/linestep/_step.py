@@ -115,8 +115,10 @@ class Step:
         The step length t; 0.0 when `x` is unchanged.
     x : array
         The new point x + t·d (the caller's own `x` object when unchanged).
-    value : float
-        f at the new point.
+    value : float or None
+        f at the new point. None only when nothing was evaluated and the caller
+        gave no ``value=``: a not_descent or stationary result, or a guarded rule
+        (`Fixed`, `Schedule`) whose point was non-finite.
     gradient : array or None
         ∇f at the new point, or None when it was not evaluated.
     evaluations : Evaluations
@@ -131,7 +133,7 @@ class Step:
 
     size: float
     x: Any
-    value: float
+    value: float | None
     gradient: Any
     evaluations: Evaluations
     status: Status

@@ -72,6 +72,8 @@ def choice(name: str, value: Any, options: tuple[str, ...]) -> str:
 
 def finite_scalar(name: str, value: Any) -> float:
     """A finite float (used for values supplied by the caller)."""
+    if isinstance(value, (str, bytes)):
+        raise TypeError(f"`{name}` must be a real scalar; got {value!r}.")
     try:
         result = float(value)
     except (TypeError, ValueError):
@@ -79,3 +81,31 @@ def finite_scalar(name: str, value: Any) -> float:
     if not math.isfinite(result):
         raise ValueError(f"`{name}` must be finite; got {name}={result!r}.")
     return result
+
+
+
+def negative_gradient_multiple(owner: str, gradient: Any, direction: Any, slope: float,
+                               *, rtol: float = 1e-6) -> float:
+    """Check that `direction` = c·(−gradient) with c > 0 and return c.
+
+    For rules defined only along the negative gradient (Barzilai–Borwein, Polyak).
+    `slope` is gradient·direction; the gradient must be nonzero. Up to `rtol`
+    relative to ‖direction‖ the direction may differ from c·(−gradient) (rounding).
+    """
+    from linestep import _array
+
+    scale = -slope / _array.dot(gradient, gradient)
+    if scale > 0.0:
+        residual = _array.norm2(direction + scale * gradient)
+        if residual <= rtol * _array.norm2(direction):
+            return scale
+    raise not_negative_gradient(owner)
+
+
+def not_negative_gradient(owner: str) -> ValueError:
+    """The error for a direction that is not a positive multiple of −gradient."""
+    return ValueError(
+        f"{owner} is defined for the negative gradient: `direction` must be a positive "
+        "multiple of -gradient, such as `-gradient` itself. For other directions "
+        "(L-BFGS, nonlinear CG) use a line search such as NonmonotoneArmijo() or Armijo()."
+    )
