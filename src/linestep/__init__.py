@@ -5,7 +5,8 @@ Public names, by group:
 =================  ==========================================================
 Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
                    `Controller`
-Searches           `Armijo`, `Goldstein`, `HagerZhang`
+Searches           `Armijo`, `Goldstein`, `Wolfe`, `MoreThuente`,
+                   `HagerZhang`
 Rules              `Fixed`, `Schedule`, `Fallback`
 Driver           `descend`, `Run`, `History`
 Directions       `SteepestDescent`, `LBFGS`, `NonlinearCG`
@@ -26,6 +27,8 @@ from linestep.rules.schedule import Schedule
 from linestep.searches.armijo import Armijo
 from linestep.searches.goldstein import Goldstein
 from linestep.searches.hager_zhang import HagerZhang, HagerZhangStart
+from linestep.searches.more_thuente import MoreThuente
+from linestep.searches.wolfe import Wolfe
 
 __all__ = [
     "Armijo",
@@ -38,6 +41,7 @@ __all__ = [
     "HagerZhangStart",
     "History",
     "LBFGS",
+    "MoreThuente",
     "NonlinearCG",
     "Objective",
     "PreviousTrial",
@@ -50,6 +54,7 @@ __all__ = [
     "Step",
     "Trial",
     "UnitTrial",
+    "Wolfe",
     "descend",
     "stopping",
 ]

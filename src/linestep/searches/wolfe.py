@@ -1,0 +1,265 @@
+"""Bracketing-and-zoom search for a step satisfying the strong or weak Wolfe conditions."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from linestep import _initial, _validate
+from linestep._controller import StepController
+from linestep._interpolate import cubic_from_slopes, quadratic_from_slope
+from linestep._ray import Point, Ray
+from linestep._step import Status
+
+__all__ = ["Wolfe"]
+
+INF = math.inf
+
+# Bracketing: the next increment is at least this multiple of the last (Moré–Thuente 1994 use 1.1).
+EXTRAPOLATE_MIN = 1.1
+# Zoom: the cubic is trusted near an end only if the quadratic (slope at t_lo only) agrees
+# with it to this fraction of the bracket; both are exact on a quadratic φ.
+AGREE = 1e-3
+# Zoom: a trusted trial keeps this fraction of the bracket away from either end ...
+TRUSTED_MARGIN = 1e-6
+# ... an untrusted one this fraction (Nocedal & Wright §3.5 advise such a safeguard).
+MARGIN = 0.1
+# Zoom: bisect when two trials shrank the bracket by less than this factor (Moré–Thuente δ = 0.66).
+BISECT_UNLESS_SHRUNK = 0.66
+# Zoom: a value this many units of rounding above φ(t_lo) is a tie, decided by the slope.
+VALUE_TIE = 10.0
+# Zoom: a non-finite end is replaced by a trial this fraction of the way from the good end.
+NON_FINITE_SHRINK = 0.1
+
+
+class Wolfe(StepController):
+    """Find t with sufficient decrease and a flattened slope (the Wolfe conditions).
+
+    With φ(t) = f(x + t·d), the step t is accepted when
+
+    * sufficient decrease: φ(t) ≤ φ(0) + c1·t·φ'(0), and
+    * curvature, strong form (``strong=True``): |φ'(t)| ≤ c2·|φ'(0)|;
+      weak form (``strong=False``): φ'(t) ≥ c2·φ'(0).
+
+    The search has two phases (Nocedal & Wright 2006, Alg. 3.5 and 3.6). The
+    bracketing phase grows the trial until it either satisfies both conditions
+    or brackets an acceptable step: the trial fails sufficient decrease, does
+    not improve on the previous trial, or has φ' ≥ 0. Each new bracketing trial
+    is the minimiser of the cubic through the last two trials, kept in
+    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``. The zoom phase then
+    narrows the bracket [t_lo, t_hi], where t_lo is the trial with sufficient
+    decrease and the least value so far, with trials at the minimiser of the
+    cubic that matches φ and φ' at both ends. The trial stays a tenth of the
+    bracket away from either end unless the quadratic through φ(t_lo),
+    φ'(t_lo), φ(t_hi) agrees with the cubic (then the model is trusted almost up
+    to the ends: on a quadratic φ the exact minimiser is the next trial however
+    close to an end it lies). The midpoint is used when two trials shrank the
+    bracket by less than a factor 0.66 (the safeguard of Moré & Thuente 1994),
+    and values within rounding of φ(t_lo) count as ties, decided by the slope.
+    Every trial evaluates the value and the gradient. A non-finite value (NaN
+    or ±inf in f or ∇f) makes that trial the too-long end of the bracket, and
+    the next trial moves 90% of the way back towards the good end.
+
+    Parameters
+    ----------
+    c1 : float
+        Sufficient-decrease constant, 0 < c1 < 1 (1e-4 is common practice,
+        Nocedal & Wright §3.1).
+    c2 : float
+        Curvature constant, c1 <= c2 < 1. 0.9 suits Newton and quasi-Newton
+        directions; 0.1 suits nonlinear conjugate gradients, which need a nearly
+        exact search (Nocedal & Wright §3.1, common practice).
+    strong : bool
+        Use the strong curvature condition (two-sided) rather than the weak one.
+    initial : float or trial strategy
+        The first trial step (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
+        `ScaledTrial`, or a number).
+    expand : float
+        Growth limit of the bracketing phase, > 1: the next trial is at most
+        ``t + expand·(t − t_prev)`` (so at most 5 times the first trial).
+    max_size : float
+        Largest step tried; a trial there that is still too short gives
+        ``step_too_large``.
+    max_evaluations : int
+        Most trial points per call (each is one value and one gradient).
+    record_trials : bool
+        Keep every trial on ``Step.trials``.
+
+    Returns
+    -------
+    Step
+        ``accepted``: `size` satisfies both conditions (strong or weak form) and
+        `x` = x + size·d, with its value and gradient.
+        ``step_too_large``: the trial reached `max_size` and was still too short
+        (f may be unbounded below along d); `x` is the best point with sufficient
+        decrease (that trial or a lower one), `size` its step.
+        ``interval_too_small``: the bracket shrank to rounding level before both
+        conditions held; `x` is the best point with sufficient decrease found,
+        else unchanged with size 0.
+        ``max_evaluations``: the budget ran out; as for ``interval_too_small``.
+        ``non_finite``: no trial had a finite value; `x` unchanged, size 0.
+        ``not_descent``: φ'(0) >= 0; `x` unchanged, nothing evaluated.
+
+    References
+    ----------
+    P. Wolfe, "Convergence conditions for ascent methods", SIAM Review
+    11(2):226–235, 1969.
+    J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed., Springer,
+    2006, §3.1 (eqs. 3.6, 3.7) and §3.5 (Alg. 3.5, 3.6, eq. 3.59).
+    J. J. Moré and D. J. Thuente, "Line search algorithms with guaranteed
+    sufficient decrease", ACM TOMS 20(3):286–307, 1994 (bisection safeguard).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep.searches.wolfe import Wolfe
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> step = Wolfe()((f, g), x, -g(x))
+    >>> step.status, step.size, step.value
+    (Status.accepted, 0.5, 0.0)
+    >>> step.evaluations  # at x, then at the trials t = 1 (too long) and t = 0.5
+    Evaluations(values=3, gradients=3)
+    """
+
+    _fields = ("c1", "c2", "strong", "initial", "expand", "max_size", "max_evaluations",
+               "record_trials")
+
+    def __init__(self, *, c1: float = 1e-4, c2: float = 0.9, strong: bool = True,
+                 initial: Any = 1.0, expand: float = 4.0, max_size: float = 1e10,
+                 max_evaluations: int = 40, record_trials: bool = False) -> None:
+        super().__init__()
+        self.c1, self.c2 = _validate.curvature_pair(c1, c2)
+        if not isinstance(strong, bool):
+            raise TypeError(f"`strong` must be True or False; got {strong!r}.")
+        self.strong = strong
+        self.initial = _initial.resolve(initial)
+        self.expand = _validate.real("expand", expand)
+        if not 1.0 < self.expand < INF:
+            raise ValueError(f"`expand` must be a finite number > 1; got expand={expand!r}.")
+        self.max_size = _validate.positive("max_size", max_size)
+        self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
+        self.record_trials = bool(record_trials)
+
+    def _search(self, ray: Ray, first: float) -> tuple:
+        origin = ray.origin
+        f0 = origin.value
+        decrease = self.c1 * origin.slope  # < 0: φ(t) must lie below f0 + t·decrease
+        flat = -self.c2 * origin.slope  # > 0: the curvature bound on φ'(t)
+        strong = self.strong
+        max_size = self.max_size
+        evaluate = ray.value_and_slope
+        previous = origin
+        size = first if first < max_size else max_size
+        while True:
+            point = evaluate(size)
+            value = point.value
+            if value > f0 + size * decrease or value >= previous.value:
+                return self._zoom(ray, previous, point)
+            slope = point.slope
+            if slope >= -flat and (slope <= flat or not strong):
+                return point, Status.accepted
+            if slope >= 0.0:
+                return self._zoom(ray, point, previous)
+            if size >= max_size:
+                return ray.best, Status.step_too_large
+            size = self._extrapolate(previous, point)
+            previous = point
+
+    def _extrapolate(self, previous: Point, point: Point) -> float:
+        """The next bracketing trial beyond `point` (cubic model, clipped)."""
+        size = point.size
+        increment = size - previous.size
+        expand = self.expand
+        low = size + min(EXTRAPOLATE_MIN, expand) * increment
+        high = size + expand * increment
+        model = cubic_from_slopes(previous.size, previous.value, previous.slope,
+                                  size, point.value, point.slope)
+        if model is None or model > high:
+            model = high
+        elif model < low:
+            model = low
+        return model if model < self.max_size else self.max_size
+
+    def _zoom(self, ray: Ray, lo: Point, hi: Point) -> tuple:
+        """Alg. 3.6: shrink [lo, hi] (either order) until a trial satisfies both conditions.
+
+        Invariants: `lo` has sufficient decrease and the lowest value so far; the
+        bracket contains an acceptable step because φ'(lo)·(hi − lo) < 0.
+        """
+        origin = ray.origin
+        f0 = origin.value
+        decrease = self.c1 * origin.slope
+        flat = -self.c2 * origin.slope
+        strong = self.strong
+        evaluate = ray.value_and_slope
+        floor = ray.rounding_size()
+        eps = _precision(origin.x)
+        tie = VALUE_TIE * eps
+        width_older = width_old = INF
+        while True:
+            a, b = lo.size, hi.size
+            width = abs(b - a)
+            if width <= floor or width <= eps * max(a, b):
+                return ray.best, Status.interval_too_small
+            if width >= BISECT_UNLESS_SHRUNK * width_older:
+                size = 0.5 * (a + b)
+            elif hi.value < INF:
+                size = _zoom_trial(a, lo.value, lo.slope, b, hi.value, hi.slope)
+            else:
+                size = a + NON_FINITE_SHRINK * (b - a)
+            width_older, width_old = width_old, width
+            point = evaluate(size)
+            value = point.value
+            if value > f0 + size * decrease or value - lo.value > tie * abs(value):
+                hi = point
+                continue
+            slope = point.slope
+            if slope >= -flat and (slope <= flat or not strong):
+                return point, Status.accepted
+            if slope * (b - a) >= 0.0:
+                hi = lo
+            lo = point
+
+
+def _zoom_trial(a: float, fa: float, da: float, b: float, fb: float, db: float) -> float:
+    """A trial strictly inside the bracket (a, b): cubic, else quadratic, else the midpoint.
+
+    The trial is kept `MARGIN` of the bracket away from either end unless the cubic
+    and the quadratic agree, in which case the model is trusted up to `TRUSTED_MARGIN`
+    (a minimiser far closer to one end than the bracket is wide is then found in one
+    trial, as on ill-conditioned quadratics).
+    """
+    cubic = cubic_from_slopes(a, fa, da, b, fb, db)
+    quadratic = quadratic_from_slope(a, fa, da, b, fb)
+    if cubic is None:
+        if quadratic is None:
+            return 0.5 * (a + b)
+        size, margin = quadratic, MARGIN
+    elif quadratic is not None and abs(cubic - quadratic) <= AGREE * abs(b - a):
+        size, margin = cubic, TRUSTED_MARGIN
+    else:
+        size, margin = cubic, MARGIN
+    margin *= b - a
+    near, far = a + margin, b - margin
+    if near > far:
+        near, far = far, near
+    if size < near:
+        return near
+    if size > far:
+        return far
+    return size
+
+
+def _precision(x: Any) -> float:
+    """Machine epsilon of x's dtype (float64's when x has no dtype)."""
+    dtype = getattr(x, "dtype", None)
+    if dtype is None:
+        return 2.220446049250313e-16
+    try:
+        return float(np.finfo(dtype).eps)
+    except (TypeError, ValueError):
+        return 2.220446049250313e-16

@@ -1,0 +1,306 @@
+"""Tests of `Wolfe` (Nocedal & Wright 2006, Alg. 3.5–3.6), strong and weak forms."""
+
+from __future__ import annotations
+
+import math
+import warnings
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from linestep import Status
+from linestep.searches.wolfe import Wolfe
+
+from .test_more_thuente import (
+    DATA,
+    along_line,
+    assert_strong_wolfe,
+    constants,
+    make_phi,
+    quadratic_1d,
+    search_phi,
+    sines_plus_quadratic,
+    spd_quadratic,
+)
+
+
+def assert_wolfe(step, f0: float, d0: float, c1: float, c2: float, strong: bool,
+                 direction=None):
+    """Nocedal & Wright eqs. 3.6 (weak) / 3.7 (strong), exactly as stated."""
+    if strong:
+        assert_strong_wolfe(step, f0, d0, c1, c2, direction)
+        return
+    slope = float(step.gradient @ (np.array([1.0]) if direction is None else direction))
+    assert step.value <= f0 + c1 * step.size * d0
+    assert slope >= c2 * d0
+
+
+def trial_sizes(step) -> list[float]:
+    return [trial.size for trial in step.trials]
+
+
+# -- exact behaviour on simple problems -------------------------------------------------
+def test_unit_step_accepted_in_one_evaluation():
+    # φ(t) = (t − 2)²: at t = 1, φ = 1 ≤ 4 − 4e-4 and |φ'| = 2 ≤ 0.9·4.
+    step = Wolfe()(quadratic_1d(2.0), np.array([0.0]), np.array([1.0]), value=4.0,
+                   gradient=np.array([-4.0]))
+    assert step.status is Status.accepted
+    assert step.size == 1.0
+    assert step.evaluations.values == 1 and step.evaluations.gradients == 1
+
+
+def test_too_short_first_trial_extrapolates_within_bounds():
+    # Same φ with c2 = 0.1: t = 1 is too short (|φ'| = 2 > 0.4). The cubic through t = 0
+    # and t = 1 is exact (t = 2) but the bracketing trial must lie in
+    # [1 + 1.1·1, 1 + 4·1] = [2.1, 5]; at 2.1, |φ'| = 0.2 ≤ 0.4.
+    step = Wolfe(c2=0.1, record_trials=True)(quadratic_1d(2.0), np.array([0.0]),
+                                             np.array([1.0]))
+    assert step.status is Status.accepted
+    assert trial_sizes(step) == [1.0, pytest.approx(2.1)]
+
+
+def test_zoom_is_exact_on_a_quadratic():
+    f = lambda x: float(x @ x)  # noqa: E731
+    g = lambda x: 2 * x  # noqa: E731
+    x = np.array([3.0, -4.0])
+    step = Wolfe(record_trials=True)((f, g), x, -g(x), value=25.0, gradient=g(x))
+    assert trial_sizes(step) == [1.0, 0.5]
+    assert step.value == 0.0
+
+
+def test_trusted_cubic_reaches_a_minimiser_near_the_end():
+    # An ill-conditioned 1-D quadratic: minimiser at t = 1e-6, first trial 1. The cubic and
+    # the quadratic agree (both exact), so the second trial is the minimiser itself.
+    fun = lambda x: 0.5e6 * float((x[0] - 1e-6) ** 2)  # noqa: E731
+    grad = lambda x: 1e6 * (x - 1e-6)  # noqa: E731
+    step = Wolfe(record_trials=True)((fun, grad), np.array([0.0]), np.array([1.0]))
+    assert step.status is Status.accepted
+    assert len(step.trials) == 2
+    assert step.size == pytest.approx(1e-6)
+
+
+# -- the six functions of Moré & Thuente 1994 --------------------------------------------
+CASES = [pytest.param(table, row[0], id=f"table{table['table']}-a0={row[0]:g}")
+         for table in DATA["tables"] for row in table["rows"]]
+
+
+@pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
+@pytest.mark.parametrize(("table", "alpha0"), CASES)
+def test_paper_functions(table, alpha0, strong):
+    """Moré & Thuente 1994 §5 functions, ftol/gtol per table (recalled from memory):
+    the accepted step satisfies the conditions claimed; the budget is not needed."""
+    c1, c2 = table["ftol"], table["gtol"]
+    step, f0, d0 = search_phi(Wolfe(c1=c1, c2=c2, strong=strong, initial=alpha0),
+                              make_phi(table))
+    assert step.status is Status.accepted
+    assert_wolfe(step, f0, d0, c1, c2, strong)
+    assert step.evaluations.values <= 25
+
+
+@pytest.mark.parametrize("table", DATA["tables"], ids=lambda t: f"table{t['table']}")
+def test_same_conditions_as_scipy(table):
+    """scipy.optimize.line_search implements the same algorithm (Nocedal & Wright
+    Alg. 3.5–3.6, strong form). From the same unit first step our accepted step
+    satisfies the same conditions, in at most scipy's trial count + 1.
+
+    Measured (trial points; scipy's function/gradient counts), scipy 1.17:
+    table 1: ours 3, scipy 3/2; table 2: 6, 9/6; table 3: 1, 1/1; table 4: 2, 2/1;
+    table 5: 6, scipy fails after 12/11; table 6: 5, 9/7. scipy evaluates no gradient
+    at trials that fail sufficient decrease, we always do. Tables 4–6 have c1 = c2,
+    which scipy refuses, so scipy runs with c2 one ulp above c1.
+    """
+    line_search = pytest.importorskip("scipy.optimize").line_search
+    c1, c2 = table["ftol"], table["gtol"]
+    phi = make_phi(table)
+    step, f0, d0 = search_phi(Wolfe(c1=c1, c2=c2), phi)
+    assert step.status is Status.accepted
+    assert_strong_wolfe(step, f0, d0, c1, c2)
+    objective = along_line(phi)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # scipy warns when it does not converge (table 5)
+        result = line_search(objective.value, objective.gradient, np.array([0.0]),
+                             np.array([1.0]), gfk=np.array([d0]), old_fval=f0, c1=c1,
+                             c2=c2 if c2 > c1 else float(np.nextafter(c2, 1.0)))
+    alpha, scipy_values = result[0], result[1]
+    if alpha is not None:
+        value, slope = phi(alpha)
+        assert value <= f0 + c1 * alpha * d0
+        assert abs(slope) <= np.nextafter(c2, 1.0) * abs(d0)
+        assert step.evaluations.values <= scipy_values + 1
+
+
+# -- properties --------------------------------------------------------------------------
+@settings(deadline=None, max_examples=60)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 8), log_condition=st.floats(0, 6),
+       scale=st.floats(-3, 3), pair=constants(), strong=st.booleans())
+def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pair, strong):
+    """Random SPD quadratics, condition numbers up to 1e6 (invented problems)."""
+    c1, c2 = pair
+    fun, grad, x = spd_quadratic(seed, n, log_condition)
+    d = -(10.0**scale) * grad(x)
+    step = Wolfe(c1=c1, c2=c2, strong=strong)((fun, grad), x, d)
+    assert step.status is Status.accepted
+    assert_wolfe(step, fun(x), float(grad(x) @ d), c1, c2, strong, direction=d)
+
+
+@settings(deadline=None, max_examples=60)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6), scale=st.floats(-2, 2),
+       pair=constants(), strong=st.booleans())
+def test_wolfe_conditions_on_nonconvex_functions(seed, n, scale, pair, strong):
+    """Sums of sines plus a quadratic (smooth, bounded below, many local minima; invented)."""
+    c1, c2 = pair
+    fun, grad, x = sines_plus_quadratic(seed, n)
+    g = grad(x)
+    if not float(g @ g) > 1e-12:
+        return
+    d = -(10.0**scale) * g
+    step = Wolfe(c1=c1, c2=c2, strong=strong)((fun, grad), x, d)
+    assert step.status is Status.accepted
+    assert_wolfe(step, fun(x), float(g @ d), c1, c2, strong, direction=d)
+
+
+# -- statuses ----------------------------------------------------------------------------
+@pytest.mark.parametrize("direction", [[1.0], [0.0]], ids=["ascent", "flat"])
+def test_not_descent_leaves_x_and_evaluates_nothing(direction):
+    x = np.array([3.0])
+    step = Wolfe()(quadratic_1d(), x, np.array(direction), value=4.0, gradient=np.array([4.0]))
+    assert step.status is Status.not_descent
+    assert step.x is x
+    assert step.size == 0.0
+    assert step.evaluations.values == 0 and step.evaluations.gradients == 0
+
+
+@pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
+@pytest.mark.parametrize("bad", [math.nan, math.inf], ids=["nan", "inf"])
+@pytest.mark.parametrize("first", [2.0, 10.0, 1e6])
+def test_non_finite_region_shrinks_the_step(bad, first, strong):
+    # f is a quadratic with minimiser t = 1 for t < 1.5 and NaN/inf beyond.
+    def fun(x):
+        return float((x[0] - 1.0) ** 2) if x[0] < 1.5 else bad
+
+    def grad(x):
+        return 2.0 * (x - 1.0) if x[0] < 1.5 else np.array([bad])
+
+    step = Wolfe(initial=first, strong=strong)((fun, grad), np.array([0.0]), np.array([1.0]))
+    assert step.status is Status.accepted
+    assert 0.0 < step.size < 1.5
+    assert math.isfinite(step.value) and np.all(np.isfinite(step.x))
+
+
+def test_non_finite_beyond_the_first_expansion():
+    # The first trial is too short; the region beyond t = 1.5 is NaN. The expansion lands
+    # there, and the zoom shrinks back into the finite part.
+    fun = lambda x: float((x[0] - 1.4) ** 2) if x[0] < 1.5 else math.nan  # noqa: E731
+    grad = lambda x: 2.0 * (x - 1.4) if x[0] < 1.5 else np.array([math.nan])  # noqa: E731
+    step = Wolfe(c2=0.1, initial=0.1)((fun, grad), np.array([0.0]), np.array([1.0]))
+    assert step.status is Status.accepted
+    assert step.size < 1.5
+
+
+def test_non_finite_everywhere_gives_non_finite():
+    step = Wolfe()((lambda x: math.nan if x[0] > 0 else 0.0, lambda x: -np.ones(1)),
+                   np.array([0.0]), np.array([1.0]), value=0.0, gradient=np.array([-1.0]))
+    assert step.status is Status.non_finite
+    assert step.size == 0.0 and step.x[0] == 0.0
+
+
+@pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
+def test_unbounded_below_stops_at_max_size(strong):
+    # f(x) = −x along d = [1]: φ(t) = −t decreases for ever.
+    step = Wolfe(max_size=1e6, strong=strong)((lambda x: -float(x[0]), lambda x: -np.ones(1)),
+                                              np.array([0.0]), np.array([1.0]))
+    assert step.status is Status.step_too_large
+    assert step.size == 1e6 and step.value == -1e6
+    assert step.evaluations.values <= 40
+
+
+def test_kink_collapses_the_bracket():
+    # φ(t) = |t − k|: |φ'| = 1 everywhere, so the strong curvature test with c2 = 0.5 can
+    # never hold; the bracket shrinks to rounding level around the kink.
+    k = 0.7 * math.sqrt(2.0)
+    fun = lambda x: abs(float(x[0]) - k)  # noqa: E731
+    grad = lambda x: np.array([1.0 if x[0] >= k else -1.0])  # noqa: E731
+    step = Wolfe(c2=0.5, initial=3.0)((fun, grad), np.array([0.0]), np.array([1.0]))
+    assert step.status is Status.interval_too_small
+    assert step.size == pytest.approx(k, abs=1e-12)
+    assert step.value < k  # the best point with sufficient decrease
+    # The weak form accepts the first trial past the kink instead.
+    weak = Wolfe(c2=0.5, initial=3.0, strong=False)((fun, grad), np.array([0.0]),
+                                                   np.array([1.0]))
+    assert weak.status is Status.accepted
+
+
+def test_budget_returns_best_sufficient_decrease_point():
+    table = DATA["tables"][5]
+    step, f0, d0 = search_phi(Wolfe(c1=1e-3, c2=1e-3, initial=1e-3, max_evaluations=4),
+                              make_phi(table))
+    assert step.status is Status.max_evaluations
+    assert step.evaluations.values == 4
+    assert step.value <= f0 + 1e-3 * step.size * d0
+
+
+def test_expand_limits_the_bracketing_growth():
+    # φ(t) = (t − 100)²: from t = 1, trials grow as t + expand·(t − t_prev).
+    step = Wolfe(expand=2.0, record_trials=True)(quadratic_1d(100.0), np.array([0.0]),
+                                                 np.array([1.0]))
+    sizes = trial_sizes(step)
+    assert sizes[:4] == [1.0, 3.0, 7.0, 15.0]
+    assert step.status is Status.accepted
+
+
+def test_float32_stays_float32():
+    x = np.array([3.0, -1.0], dtype=np.float32)
+    fun = lambda x: float(x @ x)  # noqa: E731
+    grad = lambda x: 2 * x  # noqa: E731
+    step = Wolfe()((fun, grad), x, -grad(x))
+    assert step.status is Status.accepted
+    assert step.x.dtype == np.float32
+    assert step.value < fun(x)
+
+
+def test_c1_equal_c2_is_legal():
+    assert Wolfe(c1=0.3, c2=0.3).c2 == 0.3
+
+
+def test_repr_rebuilds():
+    controller = Wolfe(c1=1e-3, c2=0.1, strong=False, initial=0.5, expand=3.0,
+                       max_size=100.0, max_evaluations=30, record_trials=True)
+    rebuilt = eval(repr(controller), {"Wolfe": Wolfe})
+    assert repr(rebuilt) == repr(controller)
+
+
+BAD_ARGUMENTS = [
+    ({"c1": 0.0}, ValueError, "`c1`"),
+    ({"c1": 1.0}, ValueError, "`c1`"),
+    ({"c1": -0.1}, ValueError, "`c1`"),
+    ({"c1": "0.1"}, TypeError, "`c1`"),
+    ({"c2": 1.0}, ValueError, "`c2`"),
+    ({"c2": 0.0}, ValueError, "`c2`"),
+    ({"c1": 0.5, "c2": 0.1}, ValueError, "`c2`"),
+    ({"strong": "yes"}, TypeError, "`strong`"),
+    ({"expand": 1.0}, ValueError, "`expand`"),
+    ({"expand": -2.0}, ValueError, "`expand`"),
+    ({"expand": math.inf}, ValueError, "`expand`"),
+    ({"max_size": -1.0}, ValueError, "`max_size`"),
+    ({"max_size": 0.0}, ValueError, "`max_size`"),
+    ({"initial": -1.0}, ValueError, "`initial`"),
+    ({"initial": "unit"}, TypeError, "`initial`"),
+    ({"max_evaluations": 0}, ValueError, "`max_evaluations`"),
+    ({"max_evaluations": 2.5}, TypeError, "`max_evaluations`"),
+]
+
+
+@pytest.mark.parametrize(("kwargs", "error", "name"), BAD_ARGUMENTS,
+                         ids=[str(case[0]) for case in BAD_ARGUMENTS])
+def test_bad_arguments_name_the_argument(kwargs, error, name):
+    with pytest.raises(error, match=name):
+        Wolfe(**kwargs)
+
+
+def test_unknown_and_positional_arguments_are_errors():
+    with pytest.raises(TypeError):
+        Wolfe(sigma=0.9)
+    with pytest.raises(TypeError):
+        Wolfe(1e-4)
