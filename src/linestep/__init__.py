@@ -6,10 +6,11 @@ Public names, by group:
 Protocol           `Objective`, `Step`, `Status`, `Evaluations`, `Trial`,
                    `Controller`
 Searches           `Armijo`, `Goldstein`, `Wolfe`, `MoreThuente`,
-                   `HagerZhang`
-Rules              `Fixed`, `Schedule`, `Fallback`
-Driver           `descend`, `Run`, `History`
-Directions       `SteepestDescent`, `LBFGS`, `NonlinearCG`
+                   `HagerZhang`, `NonmonotoneArmijo`
+Rules              `Fixed`, `Schedule`, `BarzilaiBorwein`, `Polyak`,
+                   `Fallback`
+Driver             `descend`, `Run`, `History`
+Directions         `SteepestDescent`, `LBFGS`, `NonlinearCG`
 Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
                    `ScaledTrial`, `HagerZhangStart`
 =================  ==========================================================
@@ -22,16 +23,20 @@ from linestep._objective import Objective
 from linestep._step import Controller, Evaluations, Status, Step, Trial
 from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
 from linestep.rules.fallback import Fallback
+from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.rules.fixed import Fixed
+from linestep.rules.polyak import Polyak
 from linestep.rules.schedule import Schedule
 from linestep.searches.armijo import Armijo
 from linestep.searches.goldstein import Goldstein
 from linestep.searches.hager_zhang import HagerZhang, HagerZhangStart
 from linestep.searches.more_thuente import MoreThuente
+from linestep.searches.nonmonotone import NonmonotoneArmijo
 from linestep.searches.wolfe import Wolfe
 
 __all__ = [
     "Armijo",
+    "BarzilaiBorwein",
     "Controller",
     "Evaluations",
     "Fallback",
@@ -43,7 +48,9 @@ __all__ = [
     "LBFGS",
     "MoreThuente",
     "NonlinearCG",
+    "NonmonotoneArmijo",
     "Objective",
+    "Polyak",
     "PreviousTrial",
     "QuadraticTrial",
     "Run",

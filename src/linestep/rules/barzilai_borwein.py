@@ -1,0 +1,239 @@
+"""Barzilai–Borwein step sizes for the negative gradient, globalised by a nonmonotone search."""
+
+from __future__ import annotations
+
+import math
+import numbers
+from typing import Any
+
+import numpy as np
+
+from linestep import _array, _initial, _validate
+from linestep._controller import StepController
+from linestep._objective import Objective
+from linestep._ray import Point, Ray
+from linestep._step import Status, Step
+from linestep.searches.nonmonotone import NonmonotoneArmijo
+
+__all__ = ["BarzilaiBorwein"]
+
+# Largest ‖d − c·(−g)‖ / ‖d‖ still read as d = c·(−g): rounding of a negation or scaling.
+DIRECTION_RTOL = 1e-6
+
+_NAME = "BarzilaiBorwein"
+
+_VARIANTS = ("long", "short", "alternate")
+
+
+class _Raydan:
+    """Stands for the default `globalize`: a fresh NonmonotoneArmijo(memory=10) each time."""
+
+    def __repr__(self) -> str:
+        return "NonmonotoneArmijo(reference='max', memory=10)"
+
+
+_RAYDAN = _Raydan()
+
+
+class BarzilaiBorwein(StepController):
+    """Barzilai–Borwein step α_k along −∇f(x_k) from the last displacement and gradient change.
+
+    With s = x_k − x_{k−1} and y = ∇f(x_k) − ∇f(x_{k−1}), taken from this
+    controller's previous call (the previous `x` and gradient are state):
+
+    * ``"long"`` (BB1): α = sᵀs / sᵀy;
+    * ``"short"`` (BB2): α = sᵀy / yᵀy;
+    * ``"alternate"``: BB1 on the 1st, 3rd, 5th, ... BB step and BB2 on the 2nd,
+      4th, ... (the alternating rule studied by Dai and Fletcher 2005).
+
+    α is clipped to [`min_size`, `max_size`]. When sᵀy ≤ 0 (no positive
+    curvature along s; also s = 0 when x did not move) or the quotient is not
+    finite, the previous BB trial step is reused and the message says so. The
+    very first call, with no previous point, takes its step from `first`.
+
+    By default the BB step is the first trial of Raydan's (1997) globalisation:
+    a nonmonotone backtracking search, ``NonmonotoneArmijo(reference="max",
+    memory=10)``, so f may rise for a while but the iteration converges on
+    smooth problems. ``globalize=None`` takes the pure BB step, evaluating the new
+    point once only as a guard against a non-finite value.
+
+    BB scales the *negative gradient*: the direction must be d = c·(−∇f(x))
+    with c > 0 (normally c = 1), up to a relative difference `DIRECTION_RTOL`;
+    anything else raises `ValueError`. To scale another direction (L-BFGS,
+    nonlinear CG) use a search such as `NonmonotoneArmijo` instead. The BB step
+    α and the bounds below are steps along −∇f; the returned size along d is
+    α/c, so x always moves to x − α·∇f.
+
+    Parameters
+    ----------
+    variant : {"long", "short", "alternate"}
+    first : float or trial strategy
+        Step along `direction` at the first call (and after `reset()`), before s
+        and y exist; the default (None) is ``ScaledTrial()``, which moves x by a
+        distance of 1 (t = 1/‖g₀‖₂ for d = −g₀).
+    min_size, max_size : float
+        Bounds on the BB step α, 0 < min_size <= max_size (finite).
+    globalize : controller or None
+        The search that takes the BB step as its first trial (its own `initial`
+        is ignored), or None for the pure BB step. Its state (the nonmonotone
+        reference) is reset with this controller's; do not share one instance
+        between controllers.
+
+    Returns
+    -------
+    Step
+        ``accepted``: with a search, the search accepted `size` (its condition
+        holds); without, `size` is the clipped BB step and `x` = x + size·d, whose
+        value may be above f(x). The message says when sᵀy ≤ 0 forced the
+        fallback.
+        ``non_finite``: no finite value along d (without a search: at the BB step);
+        `x` unchanged, size 0.
+        ``step_too_small``, ``max_evaluations``: from the search; `x` unchanged.
+        ``not_descent`` does not occur: a direction other than c·(−∇f) raises.
+        A zero gradient gives ``accepted`` with size 0 and nothing evaluated along d.
+
+    References
+    ----------
+    J. Barzilai and J. M. Borwein, "Two-point step size gradient methods", IMA J.
+    Numer. Anal. 8(1):141–148, 1988.
+    M. Raydan, "On the Barzilai and Borwein choice of steplength for the gradient
+    method", IMA J. Numer. Anal. 13(3):321–326, 1993.
+    M. Raydan, "The Barzilai and Borwein gradient method for the large scale
+    unconstrained minimization problem", SIAM J. Optim. 7(1):26–33, 1997.
+    Y.-H. Dai and R. Fletcher, "Projected Barzilai–Borwein methods for large-scale
+    box-constrained quadratic programming", Numer. Math. 100(1):21–47, 2005.
+
+    Examples
+    --------
+    On f(x) = ½(x₁² + 4x₂²) the second call already uses the curvature seen:
+
+    >>> import numpy as np
+    >>> from linestep.rules.barzilai_borwein import BarzilaiBorwein
+    >>> scale = np.array([1.0, 4.0])
+    >>> f = lambda x: 0.5 * float(x @ (scale * x))
+    >>> g = lambda x: scale * x
+    >>> rule = BarzilaiBorwein(variant="long", first=0.1, globalize=None)
+    >>> x = np.array([1.0, 1.0])
+    >>> for _ in range(2):
+    ...     step = rule((f, g), x, -g(x))
+    ...     x = step.x
+    >>> round(step.size, 6)   # sᵀs/sᵀy = (0.01 + 0.16)/(0.01 + 0.64)
+    0.261538
+    """
+
+    _fields = ("variant", "first", "min_size", "max_size", "globalize")
+
+    def __init__(self, *, variant: str = "alternate", first: Any = None,
+                 min_size: float = 1e-10, max_size: float = 1e10,
+                 globalize: Any = _RAYDAN) -> None:
+        super().__init__()
+        self.variant = _validate.choice("variant", variant, _VARIANTS)
+        self.first = _first_rule(first)
+        self.initial = self.first
+        self.min_size = _validate.positive("min_size", min_size)
+        self.max_size = _validate.positive("max_size", max_size)
+        if self.min_size > self.max_size:
+            raise ValueError(
+                f"`min_size` must not exceed `max_size`; got min_size={min_size!r}, "
+                f"max_size={max_size!r}."
+            )
+        if globalize is _RAYDAN:
+            globalize = NonmonotoneArmijo(reference="max", memory=10)
+        elif globalize is not None and not isinstance(globalize, StepController):
+            raise TypeError(
+                "`globalize` must be a line search such as NonmonotoneArmijo() or "
+                f"Armijo(), or None for the pure BB step; got {globalize!r}."
+            )
+        if isinstance(globalize, BarzilaiBorwein):
+            raise TypeError("`globalize` must be a line search, not another BarzilaiBorwein.")
+        self.globalize = globalize
+        if globalize is None:
+            self.max_evaluations = 1
+        else:
+            self.c1 = globalize.c1
+            self.max_evaluations = globalize.max_evaluations
+            self.record_trials = globalize.record_trials
+        self._reset_state()
+
+    def _reset_state(self) -> None:
+        self._x: Any = None  # x of the previous call
+        self._gradient: Any = None  # ∇f there
+        self._trial: float | None = None  # the BB step proposed at the previous call
+        self._count = 0  # BB steps computed from (s, y) since the last reset
+        if self.globalize is not None:
+            self.globalize.reset()
+
+    # -- hooks ---------------------------------------------------------------------
+    def _no_descent(self, objective: Objective, origin: Point, start_values: int,
+                    start_gradients: int) -> Step:
+        # φ'(0) >= 0 with a nonzero gradient: d cannot be c·(−∇f) with c > 0.
+        if _array.max_abs(origin.gradient) > 0.0:
+            raise _validate.not_negative_gradient(_NAME)
+        return super()._no_descent(objective, origin, start_values, start_gradients)
+
+    def _search(self, ray: Ray, first: float) -> tuple:
+        origin = ray.origin
+        scale = _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,
+                                                     origin.slope, rtol=DIRECTION_RTOL)
+        step, note = self._propose(origin, first * scale)
+        # State first: a budget stop inside the search must not lose this call's pair.
+        self._x, self._gradient = _snapshot(origin.x), _snapshot(origin.gradient)
+        self._trial = step
+        size = step / scale
+        if self.globalize is None:
+            point = ray.value(size)
+            if not point.finite:
+                return None, Status.non_finite, (
+                    f"f is not finite at the BB step {size:.3g}; x is unchanged. Lower "
+                    "`max_size` or use the default nonmonotone globalisation."
+                )
+            return point, Status.accepted, note
+        outcome = self.globalize._search(ray, size)
+        if note is not None and outcome[1] is Status.accepted and len(outcome) == 2:
+            return outcome[0], outcome[1], note
+        return outcome
+
+    # -- the BB step -----------------------------------------------------------------
+    def _propose(self, origin: Point, first: float) -> tuple[float, str | None]:
+        """The clipped BB step for this call and a message when a fallback was used."""
+        if self._x is None or _array.shape(self._x) != _array.shape(origin.x):
+            # No previous point (or one of another problem): the first-step rule.
+            return self._clip(first), None
+        s = origin.x - self._x
+        y = origin.gradient - self._gradient
+        sy = _array.dot(s, y)
+        self._count += 1
+        long = self.variant == "long" or (self.variant == "alternate" and self._count % 2 == 1)
+        if sy > 0.0:
+            size = _array.dot(s, s) / sy if long else sy / _array.dot(y, y)
+            if math.isfinite(size) and size > 0.0:
+                return self._clip(size), None
+        size = self._clip(self._trial)
+        return size, (f"sᵀy = {sy:.3g} gives no usable BB step (it needs positive curvature "
+                      f"along the last step), so the previous BB trial step {size:.3g} was "
+                      "reused.")
+
+    def _clip(self, size: float) -> float:
+        return min(max(size, self.min_size), self.max_size)
+
+
+def _first_rule(first: Any) -> Any:
+    if first is None:
+        return _initial.ScaledTrial()
+    if hasattr(first, "guess"):
+        return first
+    if isinstance(first, numbers.Real) and not isinstance(first, bool):
+        return _initial.resolve(_validate.positive("first", first))
+    raise TypeError(
+        "`first` must be a positive number or a trial strategy such as ScaledTrial(); "
+        f"got {first!r}."
+    )
+
+
+def _snapshot(a: Any) -> Any:
+    """A copy of `a`, so that a caller updating x or a gradient buffer in place cannot
+    change the stored previous point."""
+    if isinstance(a, np.ndarray):
+        return a.copy()
+    xp = _array.namespace(a)
+    return xp.asarray(a, copy=True)
