@@ -64,7 +64,7 @@ def dot(a: Any, b: Any) -> float:
     """The inner product of two arrays of the same shape, as a Python float."""
     if isinstance(a, np.ndarray) and isinstance(b, np.ndarray):
         if a.ndim == 1:
-            return float(a @ b)
+            return float(a.dot(b))  # ndarray.dot is about twice as fast as @ for small n
         return float(np.vdot(a, b))
     xp = namespace(a)
     return float(xp.sum(a * b))

@@ -87,9 +87,9 @@ class StepController:
                 and gradient.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
             # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
             # A finite x·x, g·d and f prove x, g, d and f finite (see `_check_slope`).
-            slope = float(gradient @ direction)
+            slope = float(gradient.dot(direction))
             value = float(value)
-            if math.isfinite(slope) and math.isfinite(value) and math.isfinite(float(x @ x)):
+            if math.isfinite(slope) and math.isfinite(value) and math.isfinite(float(x.dot(x))):
                 origin = Point(0.0, x, value, gradient, slope)
             else:
                 origin = self._origin(objective, *_check_point_and_direction(x, direction),

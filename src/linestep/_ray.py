@@ -102,7 +102,8 @@ class Ray:
         if self.count >= self.max_evaluations:
             raise BudgetSpent
         self.count += 1
-        x_new = self.origin.x + size * self.direction
+        # The unit step (Newton-like directions) needs no multiplication.
+        x_new = self.origin.x + (self.direction if size == 1.0 else size * self.direction)
         value = objective.value(x_new)
         if not math.isfinite(value):
             self.non_finite_seen = True
@@ -119,15 +120,21 @@ class Ray:
             # The value is cached: one gradient evaluation completes the point.
             gradient = objective.gradient(last.x)
             return self._complete(last, gradient)
-        x_new = self._take(size)
+        if self.count >= self.max_evaluations:
+            raise BudgetSpent
+        self.count += 1
+        direction = self.direction
+        x_new = self.origin.x + (direction if size == 1.0 else size * direction)
         value, gradient = objective.value_and_gradient(x_new)
-        if not math.isfinite(value):
-            self.non_finite_seen = True
-            return self._store(Point(size, x_new, INF, gradient, None))
-        point = Point(size, x_new, value, gradient, None)
-        return self._complete(point, gradient, fresh=True)
+        if math.isfinite(value):
+            slope = _array.dot(gradient, direction)
+            if math.isfinite(slope):
+                return self._store(Point(size, x_new, value, gradient, slope))
+        self.non_finite_seen = True
+        return self._store(Point(size, x_new, INF, gradient, None))
 
-    def _complete(self, point: Point, gradient: Any, *, fresh: bool = False) -> Point:
+    def _complete(self, point: Point, gradient: Any) -> Point:
+        """Add the gradient and slope to a point whose value is cached."""
         slope = _array.dot(gradient, self.direction)
         point.gradient = gradient
         if math.isfinite(slope):
@@ -135,8 +142,6 @@ class Ray:
         else:
             self.non_finite_seen = True
             point.value = INF
-        if fresh:
-            return self._store(point)
         if self.trials is not None and self.trials:
             self.trials[-1] = Trial(size=point.size, value=point.value, slope=point.slope)
         if point.value == INF and self.best is point:
@@ -147,7 +152,7 @@ class Ray:
         if self.count >= self.max_evaluations:
             raise BudgetSpent
         self.count += 1
-        return self.origin.x + size * self.direction
+        return self.origin.x + (self.direction if size == 1.0 else size * self.direction)
 
     def _store(self, point: Point) -> Point:
         self._last = point

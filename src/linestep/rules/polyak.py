@@ -8,7 +8,7 @@ from linestep._objective import Objective
 from linestep._ray import Point, Ray
 from linestep._step import Status, Step
 from linestep.rules.barzilai_borwein import DIRECTION_RTOL
-from linestep.searches.armijo import NON_FINITE_SHRINK
+from linestep.searches._backtrack import NON_FINITE_SHRINK
 
 __all__ = ["Polyak"]
 

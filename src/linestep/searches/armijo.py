@@ -6,14 +6,11 @@ from typing import Any
 
 from linestep import _initial, _validate
 from linestep._controller import StepController
-from linestep._interpolate import clip, cubic_backtrack, quadratic_from_slope
 from linestep._ray import Ray
-from linestep._step import Status
+from linestep.searches._backtrack import NON_FINITE_SHRINK as NON_FINITE_SHRINK  # re-exported
+from linestep.searches._backtrack import backtrack
 
 __all__ = ["Armijo"]
-
-# Shrink factor after a non-finite trial, where there is nothing to interpolate.
-NON_FINITE_SHRINK = 0.1
 
 _INTERPOLATIONS = ("cubic", "quadratic", None)
 
@@ -92,31 +89,8 @@ class Armijo(StepController):
         self.record_trials = bool(record_trials)
 
     def _search(self, ray: Ray, first: float) -> tuple:
-        origin = ray.origin
-        f0, d0, c1 = origin.value, origin.slope, self.c1
-        low, high = self.shrink_limits
-        size = first
-        older_size = older_value = None
-        while True:
-            point = ray.value(size)
-            value = point.value
-            if value - f0 <= c1 * size * d0:  # as a difference: rounding cannot pass it
-                return point, Status.accepted
-            if size <= ray.rounding_size():
-                return None, Status.step_too_small
-            if not point.finite:
-                next_size = size * min(self.shrink, NON_FINITE_SHRINK)
-                older_size = None
-            elif self.interpolation is None:
-                next_size = size * self.shrink
-            else:
-                if older_size is None or self.interpolation == "quadratic":
-                    model = quadratic_from_slope(0.0, f0, d0, size, value)
-                else:
-                    model = cubic_backtrack(f0, d0, older_size, older_value, size, value)
-                next_size = clip(model, low * size, high * size)
-                older_size, older_value = size, value
-            size = next_size
+        return backtrack(ray, first, ray.origin.value, self.c1, self.shrink,
+                         self.interpolation, self.shrink_limits)
 
 
 def _shrink_limits(limits: Any) -> tuple[float, float]:

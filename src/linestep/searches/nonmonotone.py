@@ -8,10 +8,9 @@ from typing import Any
 
 from linestep import _validate
 from linestep._controller import StepController
-from linestep._interpolate import clip, cubic_backtrack, quadratic_from_slope
-from linestep._ray import Point, Ray
-from linestep._step import Status
-from linestep.searches.armijo import NON_FINITE_SHRINK, Armijo
+from linestep._ray import Ray
+from linestep.searches._backtrack import backtrack
+from linestep.searches.armijo import Armijo
 
 __all__ = ["NonmonotoneArmijo"]
 
@@ -129,8 +128,8 @@ class NonmonotoneArmijo(StepController):
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
         reference = self._next_reference(origin.value)
-        outcome = _backtrack(ray, first, reference=reference, c1=self.c1, shrink=self.shrink,
-                             interpolation=self.interpolation, shrink_limits=self.shrink_limits)
+        outcome = backtrack(ray, first, reference, self.c1, self.shrink, self.interpolation,
+                            self.shrink_limits)
         point = outcome[0]
         if point is not None and point.value > origin.value:
             message = (f"The step raised f from {origin.value:.6g} to {point.value:.6g}, "
@@ -150,43 +149,6 @@ class NonmonotoneArmijo(StepController):
             average = (self.eta * self._weight * self._average + value) / weight
         self._weight, self._average = weight, average
         return max(average, value)
-
-
-def _backtrack(ray: Ray, first: float, *, reference: float, c1: float, shrink: float,
-               interpolation: str | None, shrink_limits: tuple[float, float]) -> tuple:
-    """Backtrack from `first` until φ(t) ≤ reference + c1·t·φ'(0).
-
-    The trial sequence is Armijo's: the model always interpolates φ itself
-    (φ(0), φ'(0) and the failed trials), whatever the reference. With
-    ``reference = φ(0)`` this is exactly `Armijo`'s search, so Armijo can call it.
-    Returns ``(point, Status.accepted)`` or ``(None, Status.step_too_small)``;
-    the ray raises `BudgetSpent` when the budget runs out.
-    """
-    origin = ray.origin
-    f0, d0 = origin.value, origin.slope
-    low, high = shrink_limits
-    size = first
-    older_size = older_value = None
-    while True:
-        point: Point = ray.value(size)
-        value = point.value
-        if value - reference <= c1 * size * d0:  # as a difference, like Armijo's test
-            return point, Status.accepted
-        if size <= ray.rounding_size():
-            return None, Status.step_too_small
-        if not point.finite:
-            next_size = size * min(shrink, NON_FINITE_SHRINK)
-            older_size = None
-        elif interpolation is None:
-            next_size = size * shrink
-        else:
-            if older_size is None or interpolation == "quadratic":
-                model = quadratic_from_slope(0.0, f0, d0, size, value)
-            else:
-                model = cubic_backtrack(f0, d0, older_size, older_value, size, value)
-            next_size = clip(model, low * size, high * size)
-            older_size, older_value = size, value
-        size = next_size
 
 
 def _weight(name: str, value: Any) -> float:

@@ -1,0 +1,188 @@
+"""Curvature-condition searches on the Moré–Garbow–Hillstrom set, against scipy.
+
+Part 1 (evaluations): L-BFGS (m = 10) driven by `descend` with each of
+`Wolfe`, `MoreThuente` and `HagerZhang`, next to the same driver using
+`scipy.optimize.line_search` as its step controller, and next to
+`scipy.optimize.minimize(method="L-BFGS-B")`. Every run stops at
+‖g‖∞ ≤ 1e-8·max(1, ‖g₀‖∞) or 5000 iterations; a problem counts as solved when
+that gradient test holds and f is within 1e-4·max(1, |f*|) of a published
+optimal value.
+
+Part 2 (per-call time): each search against `scipy.optimize.line_search` on
+invented n = 10 quadratics in the same process, timed alternately per round:
+(a) a well-scaled case where the unit step is accepted, (b) an ill-conditioned
+case (eigenvalues 1–100, steepest-descent direction) needing several trials.
+
+Run: ``python benchmarks/curvature_searches.py [--quick]``
+"""
+
+from __future__ import annotations
+
+import argparse
+import statistics
+import time
+import warnings
+
+import numpy as np
+from scipy.optimize import line_search, minimize
+
+from linestep import LBFGS, Evaluations, HagerZhang, MoreThuente, Objective, Wolfe, descend
+from linestep import stopping
+from linestep._controller import StepController
+from linestep._step import Status
+from linestep.bench.problems import mgh_problems
+
+GRADIENT_RTOL = 1e-8
+MAX_ITERATIONS = 5000
+VALUE_RTOL = 1e-4
+
+
+class ScipyLineSearch(StepController):
+    """scipy.optimize.line_search as a linestep controller (benchmark adapter only).
+
+    The evaluations scipy makes go through the same counting objective.
+    """
+
+    _fields = ("c1", "c2")
+
+    def __init__(self, *, c1: float = 1e-4, c2: float = 0.9) -> None:
+        super().__init__()
+        self.c1, self.c2 = c1, c2
+        self.max_evaluations = 10**9
+
+    def _search(self, ray, first):
+        objective, origin = ray.objective, ray.origin
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            size, *_ = line_search(objective.value, objective.gradient, origin.x,
+                                   ray.direction, gfk=origin.gradient, old_fval=origin.value,
+                                   c1=self.c1, c2=self.c2)
+        if size is None:
+            return None, Status.max_evaluations
+        return ray.value_and_slope(size), Status.accepted
+
+
+def stop_rule(problem):
+    g0 = np.max(np.abs(problem.gradient(problem.start)))
+    return (stopping.GradientNorm(atol=GRADIENT_RTOL * max(1.0, g0), rtol=0.0)
+            | stopping.MaxIterations(MAX_ITERATIONS))
+
+
+def solved(problem, x, value):
+    g0 = np.max(np.abs(problem.gradient(problem.start)))
+    small = np.max(np.abs(problem.gradient(x))) <= GRADIENT_RTOL * max(1.0, g0)
+    return bool(small and problem.solved(value, rtol=VALUE_RTOL))
+
+
+def run_linestep(problem, controller):
+    run = descend(Objective(problem.value, problem.gradient), problem.start.copy(),
+                  controller=controller, direction=LBFGS(10), stop=stop_rule(problem))
+    return solved(problem, run.x, run.value), run.evaluations
+
+
+def run_lbfgsb(problem):
+    g0 = np.max(np.abs(problem.gradient(problem.start)))
+    objective = Objective(problem.value, problem.gradient)
+    result = minimize(objective.value_and_gradient, problem.start.copy(), jac=True,
+                      method="L-BFGS-B",
+                      options={"maxiter": MAX_ITERATIONS, "maxfun": 10 * MAX_ITERATIONS,
+                               "gtol": GRADIENT_RTOL * max(1.0, g0), "ftol": 0.0, "maxcor": 10})
+    return solved(problem, result.x, result.fun), objective.evaluations
+
+
+def evaluation_table(problems):
+    methods = {
+        "Wolfe()": lambda p: run_linestep(p, Wolfe()),
+        "MoreThuente()": lambda p: run_linestep(p, MoreThuente()),
+        "HagerZhang()": lambda p: run_linestep(p, HagerZhang()),
+        "scipy line_search driver": lambda p: run_linestep(p, ScipyLineSearch()),
+        "scipy L-BFGS-B": run_lbfgsb,
+    }
+    outcome = {name: {} for name in methods}
+    for problem in problems:
+        for name, method in methods.items():
+            with np.errstate(all="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                outcome[name][problem.name] = method(problem)
+    print(f"Part 1: L-BFGS(m=10) on {len(problems)} MGH problems, ‖g‖∞ ≤ 1e-8·max(1,‖g0‖∞)")
+    reference = outcome["scipy line_search driver"]
+    print(f"  {'method':<26} {'solved':>6}  {'evals (both solved)':>20}  {'ratio':>6}")
+    for name, results in outcome.items():
+        both = [p for p in results if results[p][0] and reference[p][0]]
+        ours = sum(results[p][1].total for p in both)
+        theirs = sum(reference[p][1].total for p in both)
+        count = sum(ok for ok, _ in results.values())
+        print(f"  {name:<26} {count:>6}  {ours:>20}  {ours / theirs:>6.2f}"
+              f"   (on {len(both)} problems solved by both)")
+    unsolved = {name: sorted(p for p, (ok, _) in results.items() if not ok)
+                for name, results in outcome.items()}
+    for name, names in unsolved.items():
+        print(f"  not solved by {name}: {', '.join(names) or '-'}")
+    return outcome
+
+
+def quadratic(eigenvalues, seed):
+    rng = np.random.default_rng(seed)
+    n = len(eigenvalues)
+    q, _ = np.linalg.qr(rng.standard_normal((n, n)))
+    a = q @ np.diag(eigenvalues) @ q.T
+
+    def fun(x):
+        return 0.5 * float(x @ (a @ x))
+
+    def grad(x):
+        return a @ x
+
+    return fun, grad, a, rng.standard_normal(n)
+
+
+def per_call(fn, repeat):
+    start = time.perf_counter()
+    for _ in range(repeat):
+        fn()
+    return (time.perf_counter() - start) / repeat
+
+
+def timing_table(rounds, repeat):
+    cases = {
+        "unit step accepted": (np.linspace(0.9, 1.1, 10), True),
+        "ill-conditioned (1-100), -g": (np.linspace(1.0, 100.0, 10), False),
+    }
+    searches = {"Wolfe": Wolfe(), "MoreThuente": MoreThuente(), "HagerZhang": HagerZhang()}
+    print("\nPart 2: per-call time against scipy.optimize.line_search, n = 10, "
+          f"medians of {rounds} alternating rounds")
+    for label, (eigenvalues, newton) in cases.items():
+        fun, grad, a, x = quadratic(eigenvalues, seed=3)
+        g = grad(x)
+        d = -np.linalg.solve(a, g) if newton else -g
+        objective = Objective(fun, grad)
+        value = fun(x)
+        calls = {name: (lambda s=s: s(objective, x, d, value=value, gradient=g))
+                 for name, s in searches.items()}
+        calls["scipy"] = lambda: line_search(fun, grad, x, d, gfk=g, old_fval=value)
+        times = {name: [] for name in calls}
+        for _ in range(rounds):
+            for name, call in calls.items():
+                times[name].append(per_call(call, repeat))
+        counts = {name: s(Objective(fun, grad), x, d, value=value, gradient=g).evaluations
+                  for name, s in searches.items()}
+        scipy_counts = line_search(fun, grad, x, d, gfk=g, old_fval=value)[1:3]
+        print(f"  case: {label}; scipy {statistics.median(times['scipy']) * 1e6:.1f} us, "
+              f"{scipy_counts[0]} f + {scipy_counts[1]} g")
+        for name in searches:
+            ratio = statistics.median(t / s for t, s in zip(times[name], times["scipy"]))
+            c: Evaluations = counts[name]
+            print(f"    {name:<12} {statistics.median(times[name]) * 1e6:7.1f} us   "
+                  f"time ratio to scipy {ratio:5.2f}   {c.values} f + {c.gradients} g")
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--quick", action="store_true", help="fewer timing rounds")
+    args = parser.parse_args()
+    evaluation_table(mgh_problems())
+    timing_table(rounds=5 if args.quick else 20, repeat=300 if args.quick else 1000)
+
+
+if __name__ == "__main__":
+    main()
