@@ -47,6 +47,29 @@ def _evaluations(values: int, gradients: int) -> Evaluations:
     return record
 
 
+# Step is a frozen slots dataclass; writing its slots directly skips the
+# object.__setattr__ round trip of the generated __init__ (about 0.5 us per call).
+_STEP_SLOTS = tuple(getattr(Step, name).__set__ for name in (
+    "size", "x", "value", "gradient", "evaluations", "status", "message", "trials"))
+_new = object.__new__
+
+
+def _step(size: float, x: Any, value: Any, gradient: Any, evaluations: Evaluations,
+          status: Status, message: str, trials: Any) -> Step:
+    step = _new(Step)
+    set_size, set_x, set_value, set_gradient, set_evaluations, set_status, set_message, \
+        set_trials = _STEP_SLOTS
+    set_size(step, size)
+    set_x(step, x)
+    set_value(step, value)
+    set_gradient(step, gradient)
+    set_evaluations(step, evaluations)
+    set_status(step, status)
+    set_message(step, message)
+    set_trials(step, trials)
+    return step
+
+
 _STATIONARY = "The gradient at x is zero, so x is stationary; the step is 0."
 
 
@@ -127,7 +150,6 @@ class StepController:
 
     def _remember(self, ray: Ray, point: Point | None, status: Status) -> None:
         memory = self._memory
-        memory.calls += 1
         if point is not None and status is Status.accepted:
             memory.size = point.size
             memory.start_value = ray.origin.value
@@ -180,14 +202,18 @@ class StepController:
                 start_gradients: int) -> Step:
         point, status = outcome[0], outcome[1]
         objective = ray.objective
-        if status is _ACCEPTED and point is not None and len(outcome) == 2 \
-                and ray.trials is None and point.value < math.inf:
-            # Lean path for the common outcome.
-            self._remember(ray, point, status)
-            return Step(size=point.size, x=point.x, value=point.value, gradient=point.gradient,
-                        evaluations=_evaluations(objective.values - start_values,
-                                                 objective.gradients - start_gradients),
-                        status=status, message=_ACCEPTED_MESSAGE, trials=None)
+        if status is _ACCEPTED and point is not None and ray.trials is None \
+                and point.value < math.inf:
+            # Lean path for the common outcome (`_remember` inlined).
+            memory = self._memory
+            memory.size = point.size
+            origin = ray.origin
+            memory.start_value = origin.value
+            memory.slope = origin.slope
+            return _step(point.size, point.x, point.value, point.gradient,
+                         _evaluations(objective.values - start_values,
+                                      objective.gradients - start_gradients),
+                         status, outcome[2] if len(outcome) > 2 else _ACCEPTED_MESSAGE, None)
         message = outcome[2] if len(outcome) > 2 else None
         origin = ray.origin
         if point is not None and (

@@ -23,13 +23,12 @@ __all__ = ["PreviousTrial", "QuadraticTrial", "ScaledTrial", "UnitTrial"]
 class Memory:
     """What a controller remembers of its previous accepted call."""
 
-    __slots__ = ("size", "start_value", "slope", "calls")
+    __slots__ = ("size", "start_value", "slope")
 
     def __init__(self) -> None:
         self.size: float | None = None  # accepted step size
         self.start_value: float | None = None  # f at that call's x
         self.slope: float | None = None  # φ'(0) at that call
-        self.calls = 0
 
 
 class UnitTrial:

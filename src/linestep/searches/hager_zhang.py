@@ -185,9 +185,23 @@ class HagerZhang(StepController):
         return self.epsilon * scale
 
     def _search(self, ray: Ray, first: float) -> tuple:
-        walk = _Walk(self, ray, self._epsilon_k(ray.origin.value))
+        origin = ray.origin
+        f0, d0, c1 = origin.value, origin.slope, self.c1
+        epsilon_k = self._epsilon_k(f0)
+        size = min(first, self.max_size)
+        # The first trial is tested here, so that the common case of an accepted
+        # first trial skips building the walk (same tests as `_Walk.probe`).
+        point = ray.value_and_slope(size)
+        slope = point.slope
+        if slope is not None and slope >= self.c2 * d0:
+            if point.value - f0 <= c1 * size * d0:
+                return point, Status.accepted, _WOLFE
+            if slope <= (2.0 * c1 - 1.0) * d0 and point.value <= f0 + epsilon_k:
+                return point, Status.accepted, _APPROXIMATE
+        walk = _Walk(self, ray, epsilon_k)
         try:
-            low, high = walk.bracket(min(first, self.max_size))
+            # The ray returns the cached first trial: nothing is evaluated twice.
+            low, high = walk.bracket(size)
             shrink_test = self.shrink_test
             width = high.size - low.size
             while True:  # L1–L3
