@@ -26,8 +26,16 @@ import warnings
 import numpy as np
 from scipy.optimize import line_search, minimize
 
-from linestep import LBFGS, Evaluations, HagerZhang, MoreThuente, Objective, Wolfe, descend
-from linestep import stopping
+from linestep import (
+    LBFGS,
+    Evaluations,
+    HagerZhang,
+    MoreThuente,
+    Objective,
+    Wolfe,
+    descend,
+    stopping,
+)
 from linestep._controller import StepController
 from linestep._step import Status
 from linestep.bench.problems import mgh_problems
@@ -143,37 +151,41 @@ def per_call(fn, repeat):
     return (time.perf_counter() - start) / repeat
 
 
+def time_case(label, eigenvalues, newton, searches, rounds, repeat):
+    """One timing case: every search and scipy, alternately in each round."""
+    fun, grad, a, x = quadratic(eigenvalues, seed=3)
+    g = grad(x)
+    d = -np.linalg.solve(a, g) if newton else -g
+    objective = Objective(fun, grad)
+    value = fun(x)
+    calls = {name: (lambda s=s: s(objective, x, d, value=value, gradient=g))
+             for name, s in searches.items()}
+    calls["scipy"] = lambda: line_search(fun, grad, x, d, gfk=g, old_fval=value)
+    times = {name: [] for name in calls}
+    for _ in range(rounds):
+        for name, call in calls.items():
+            times[name].append(per_call(call, repeat))
+    counts = {name: s(Objective(fun, grad), x, d, value=value, gradient=g).evaluations
+              for name, s in searches.items()}
+    scipy_counts = line_search(fun, grad, x, d, gfk=g, old_fval=value)[1:3]
+    print(f"  case: {label}; scipy {statistics.median(times['scipy']) * 1e6:.1f} us, "
+          f"{scipy_counts[0]} f + {scipy_counts[1]} g")
+    for name in searches:
+        ratio = statistics.median(
+            t / s for t, s in zip(times[name], times["scipy"], strict=True))
+        c: Evaluations = counts[name]
+        print(f"    {name:<12} {statistics.median(times[name]) * 1e6:7.1f} us   "
+              f"time ratio to scipy {ratio:5.2f}   {c.values} f + {c.gradients} g")
+
+
 def timing_table(rounds, repeat):
-    cases = {
-        "unit step accepted": (np.linspace(0.9, 1.1, 10), True),
-        "ill-conditioned (1-100), -g": (np.linspace(1.0, 100.0, 10), False),
-    }
     searches = {"Wolfe": Wolfe(), "MoreThuente": MoreThuente(), "HagerZhang": HagerZhang()}
     print("\nPart 2: per-call time against scipy.optimize.line_search, n = 10, "
           f"medians of {rounds} alternating rounds")
-    for label, (eigenvalues, newton) in cases.items():
-        fun, grad, a, x = quadratic(eigenvalues, seed=3)
-        g = grad(x)
-        d = -np.linalg.solve(a, g) if newton else -g
-        objective = Objective(fun, grad)
-        value = fun(x)
-        calls = {name: (lambda s=s: s(objective, x, d, value=value, gradient=g))
-                 for name, s in searches.items()}
-        calls["scipy"] = lambda: line_search(fun, grad, x, d, gfk=g, old_fval=value)
-        times = {name: [] for name in calls}
-        for _ in range(rounds):
-            for name, call in calls.items():
-                times[name].append(per_call(call, repeat))
-        counts = {name: s(Objective(fun, grad), x, d, value=value, gradient=g).evaluations
-                  for name, s in searches.items()}
-        scipy_counts = line_search(fun, grad, x, d, gfk=g, old_fval=value)[1:3]
-        print(f"  case: {label}; scipy {statistics.median(times['scipy']) * 1e6:.1f} us, "
-              f"{scipy_counts[0]} f + {scipy_counts[1]} g")
-        for name in searches:
-            ratio = statistics.median(t / s for t, s in zip(times[name], times["scipy"]))
-            c: Evaluations = counts[name]
-            print(f"    {name:<12} {statistics.median(times[name]) * 1e6:7.1f} us   "
-                  f"time ratio to scipy {ratio:5.2f}   {c.values} f + {c.gradients} g")
+    time_case("unit step accepted", np.linspace(0.9, 1.1, 10), True, searches, rounds,
+              repeat)
+    time_case("ill-conditioned (1-100), -g", np.linspace(1.0, 100.0, 10), False, searches,
+              rounds, repeat)
 
 
 def main():

@@ -99,7 +99,7 @@ def test_repr_rebuilds_the_call(direction):
 
 
 def test_default_reprs():
-    assert repr(LBFGS()) == "LBFGS(memory=10, curvature_tolerance=1e-08)"
+    assert repr(LBFGS()) == "LBFGS(memory=10, curvature_tolerance=1e-08, scale_first=True)"
     assert repr(NonlinearCG()) == (
         "NonlinearCG(beta='hager_zhang', eta=0.01, restart_every=None, "
         "orthogonality_restart=None)"
@@ -147,11 +147,20 @@ def test_call_argument_errors(direction):
         type(direction)()(np.zeros(2, dtype=complex), np.ones(2))
 
 
-@pytest.mark.parametrize("direction", [LBFGS(), NonlinearCG(), NonlinearCG("pr+")])
+@pytest.mark.parametrize("direction", [LBFGS(scale_first=False), NonlinearCG(),
+                                       NonlinearCG("pr+")])
 def test_first_call_is_steepest_descent_and_not_a_restart(direction):
     g = np.array([3.0, -1.0, 2.0])
     np.testing.assert_array_equal(direction(np.ones(3), g), -g)
     assert direction.restarted is False
+
+
+def test_lbfgs_scales_its_first_direction_to_at_most_unit_length():
+    # d = −g·min(1, 1/‖g‖₂) while no pairs are stored (Liu & Nocedal 1989's first step).
+    g = np.array([3.0, -1.0, 2.0])
+    np.testing.assert_allclose(LBFGS()(np.ones(3), g), -g / np.sqrt(14.0), rtol=1e-15)
+    small = np.array([0.3, -0.4])
+    np.testing.assert_array_equal(LBFGS()(np.ones(2), small), -small)
 
 
 @pytest.mark.parametrize("direction", [LBFGS(), NonlinearCG(), NonlinearCG("pr+")])
@@ -164,7 +173,8 @@ def test_zero_gradient_gives_zero_direction_without_restart(direction):
     assert direction.restarted is False
 
 
-@pytest.mark.parametrize("make", [LBFGS, NonlinearCG, lambda: NonlinearCG("pr+")])
+@pytest.mark.parametrize("make", [lambda: LBFGS(scale_first=False), NonlinearCG,
+                                  lambda: NonlinearCG("pr+")])
 def test_reset_forgets_everything(make):
     A, b = spd_quadratic(4, seed=3)
     direction = make()
@@ -237,7 +247,7 @@ def test_ring_buffer_keeps_the_newest_pairs_in_order():
 def test_skip_rule_drops_pairs_without_positive_curvature():
     # f(x) = −½‖x‖² (concave) has sᵀy = −‖s‖² < 0 for every step: all pairs are skipped
     # and the direction stays −g (N&W eq. 6.7 needs sᵀy > 0 for a positive definite H).
-    direction = LBFGS(5)
+    direction = LBFGS(5, scale_first=False)
     for x in (np.array([1.0, 2.0]), np.array([1.5, 2.5]), np.array([3.0, 2.0])):
         d = direction(x, -x)
         np.testing.assert_array_equal(d, x)

@@ -135,7 +135,12 @@ class LBFGS:
 
     Rules:
 
-    * The first call after construction or `reset` returns −∇f.
+    * With no pairs stored (the first call after construction or `reset`, and
+      after a restart) the direction is −∇f, scaled by min(1, 1/‖∇f‖₂) when
+      `scale_first` is true: nothing is known of the curvature yet, so a unit
+      trial step moves x by at most 1 (the first step of Liu & Nocedal's 1989
+      driver; common practice). On badly scaled starts the raw −∇f sends the unit
+      trial far away, often into another basin.
     * A pair is *skipped* when sᵀy ≤ `curvature_tolerance`·‖s‖·‖y‖, i.e. when the
       cosine between s and y is not safely positive; BFGS needs sᵀy > 0 to keep H
       positive definite (N&W eq. 6.7). Skipping is common practice; this
@@ -153,6 +158,8 @@ class LBFGS:
         N&W §7.2).
     curvature_tolerance : float
         Cosine floor of the skip rule above, >= 0.
+    scale_first : bool
+        Scale the steepest-descent direction used while no pairs are stored.
 
     Attributes
     ----------
@@ -178,22 +185,25 @@ class LBFGS:
     >>> from linestep.directions import LBFGS
     >>> direction = LBFGS(memory=5)
     >>> direction
-    LBFGS(memory=5, curvature_tolerance=1e-08)
+    LBFGS(memory=5, curvature_tolerance=1e-08, scale_first=True)
 
-    On f(x) = ½·xᵀ·diag(1, 4)·x the first pair gives γ = sᵀy/yᵀy:
+    On f(x) = ½·xᵀ·diag(1, 4)·x the first call scales −∇f to unit length, and
+    the first pair gives γ = sᵀy/yᵀy:
 
     >>> A = np.diag([1.0, 4.0])
-    >>> direction(np.array([1.0, 1.0]), A @ [1.0, 1.0])
-    array([-1., -4.])
+    >>> np.round(direction(np.array([1.0, 1.0]), A @ [1.0, 1.0]), 4)
+    array([-0.2425, -0.9701])
     >>> d = direction(np.array([0.5, -1.0]), A @ [0.5, -1.0])
     >>> bool(d @ (A @ [0.5, -1.0]) < 0), direction.stored, direction.restarted
     (True, 1, False)
     """
 
-    _fields = ("memory", "curvature_tolerance")
+    _fields = ("memory", "curvature_tolerance", "scale_first")
 
     def __init__(self, memory: int = 10, *,
-                 curvature_tolerance: float = DEFAULT_CURVATURE_TOLERANCE) -> None:
+                 curvature_tolerance: float = DEFAULT_CURVATURE_TOLERANCE,
+                 scale_first: bool = True) -> None:
+        self.scale_first = bool(scale_first)
         self.memory = _validate.integer("memory", memory, minimum=1)
         self.curvature_tolerance = _validate.nonnegative("curvature_tolerance",
                                                          curvature_tolerance)
@@ -224,18 +234,24 @@ class LBFGS:
                 self._update(x_flat - self._previous.x, g - self._previous.gradient)
         self.restarted = False
         if self.stored == 0:
-            d = -g
+            d = self._steepest(g)
         else:
             with np.errstate(over="ignore", invalid="ignore"):  # overflow → restart below
                 d = -self._inverse_hessian_times(g)
             if not _is_descent(g, d) and g.any():
                 self.stored = 0
                 self.restarted = True
-                d = -g
+                d = self._steepest(g)
         self._previous = _Previous(x_flat, g, None, _array.shape(x))
         return _as_output(x, d)
 
     # -- internals ----------------------------------------------------------------
+    def _steepest(self, g: np.ndarray) -> np.ndarray:
+        if not self.scale_first:
+            return -g
+        norm = math.sqrt(float(g @ g))
+        return -g / norm if norm > 1.0 and math.isfinite(norm) else -g
+
     def _allocate(self, size: int, dtype: np.dtype) -> None:
         self._s = np.zeros((self.memory, size), dtype=dtype)
         self._y = np.zeros((self.memory, size), dtype=dtype)
