@@ -86,6 +86,9 @@ class StepController:
     max_evaluations = 40
     #: Keep every trial on the returned Step.
     record_trials = False
+    #: The rule is defined only for d = c·(−∇f), c > 0 (Barzilai–Borwein, Polyak):
+    #: an ascent direction with a nonzero gradient is a usage error, not a status.
+    negative_gradient_only = False
 
     def __init__(self) -> None:
         self._memory = _initial.Memory()
@@ -190,6 +193,9 @@ class StepController:
     def _no_descent(self, objective: Objective, origin: Point, start_values: int,
                     start_gradients: int) -> Step:
         stationary = origin.slope == 0.0 and _array.max_abs(origin.gradient) == 0.0
+        if self.negative_gradient_only and not stationary \
+                and _array.max_abs(origin.gradient) > 0.0:
+            raise _validate.not_negative_gradient(type(self).__name__)
         status = Status.accepted if stationary else Status.not_descent
         evaluations = _evaluations(objective.values - start_values,
                                    objective.gradients - start_gradients)

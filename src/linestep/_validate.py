@@ -22,9 +22,12 @@ def real(name: str, value: Any) -> float:
 def integer(name: str, value: Any, *, minimum: int = 1) -> int:
     """Return `value` as an int >= `minimum`."""
     if isinstance(value, bool) or not isinstance(value, numbers.Integral):
-        raise TypeError(f"`{name}` must be an integer; got {value!r}.")
+        hint = ""
+        if isinstance(value, float) and value.is_integer():
+            hint = f" Write {int(value)} instead."
+        raise TypeError(f"`{name}` must be an integer; got {value!r}.{hint}")
     if value < minimum:
-        raise ValueError(f"`{name}` must be >= {minimum}; got {value!r}.")
+        raise ValueError(f"`{name}` must be >= {minimum}; got {name}={int(value)!r}.")
     return int(value)
 
 

@@ -32,6 +32,16 @@ POWELL_ORTHOGONALITY = 0.2
 _BETAS = ("pr+", "hager_zhang")
 
 
+class _Rebuildable:
+    """repr prints the constructor call that rebuilds the object (from `_fields`)."""
+
+    _fields: tuple[str, ...] = ()
+
+    def __repr__(self) -> str:
+        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
+        return f"{type(self).__name__}({arguments})"
+
+
 @runtime_checkable
 class Direction(Protocol):
     """The protocol `descend` uses for search directions."""
@@ -123,7 +133,7 @@ def _as_output(x: Any, d: np.ndarray) -> Any:
 # ---------------------------------------------------------------------------------- L-BFGS
 
 
-class LBFGS:
+class LBFGS(_Rebuildable):
     """Limited-memory BFGS: d = −H_k·∇f from the last `memory` curvature pairs.
 
     Each call forms the pair s = x_k − x_{k−1}, y = ∇f_k − ∇f_{k−1} from the
@@ -209,10 +219,6 @@ class LBFGS:
                                                          curvature_tolerance)
         self.reset()
 
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{type(self).__name__}({arguments})"
-
     def reset(self) -> None:
         """Forget the pairs and the previous point."""
         self.restarted = False
@@ -249,7 +255,8 @@ class LBFGS:
     def _steepest(self, g: np.ndarray) -> np.ndarray:
         if not self.scale_first:
             return -g
-        norm = math.sqrt(float(g @ g))
+        with np.errstate(over="ignore"):  # an overflowing norm leaves −g unscaled
+            norm = math.sqrt(float(g @ g))
         return -g / norm if norm > 1.0 and math.isfinite(norm) else -g
 
     def _allocate(self, size: int, dtype: np.dtype) -> None:
@@ -311,7 +318,7 @@ def _two_loop(g: np.ndarray, s: np.ndarray, y: np.ndarray, rho: np.ndarray,
 # ---------------------------------------------------------------------- nonlinear CG
 
 
-class NonlinearCG:
+class NonlinearCG(_Rebuildable):
     """Nonlinear conjugate gradients: d_k = −∇f_k + β_k·d_{k−1}.
 
     With y = ∇f_k − ∇f_{k−1} and d = d_{k−1}:
@@ -400,10 +407,6 @@ class NonlinearCG:
             None if orthogonality_restart is None
             else _validate.positive("orthogonality_restart", orthogonality_restart))
         self.reset()
-
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{type(self).__name__}({arguments})"
 
     def reset(self) -> None:
         """Forget the previous point, gradient and direction."""

@@ -61,6 +61,8 @@ from typing import Any
 
 import numpy as np
 
+from linestep import _validate
+
 __all__ = [
     "AnyOf",
     "Criterion",
@@ -180,42 +182,15 @@ class Verdict:
 # Each raises with the argument named in backticks, the bad value and the fix.
 
 
-def _real(name: str, value: Any) -> float:
-    if isinstance(value, bool) or not isinstance(value, numbers.Real):
-        raise TypeError(f"`{name}` must be a real number; got {value!r}.")
-    return float(value)
-
-
-def _tolerance(name: str, value: Any) -> float:
-    value = _real(name, value)
-    if not (value >= 0.0 and math.isfinite(value)):
-        raise ValueError(f"`{name}` must be a finite number >= 0; got {name}={value!r}.")
-    return value
+def _positive_seconds(name: str, value: Any) -> float:
+    return _validate.positive(name, value, allow_inf=True)
 
 
 def _relative(name: str, value: Any) -> float:
     # rtol >= 1 would make the test pass trivially (at once, for the gradient).
-    value = _real(name, value)
+    value = _validate.real(name, value)
     if not 0.0 <= value < 1.0:
         raise ValueError(f"`{name}` must satisfy 0 <= {name} < 1; got {name}={value!r}.")
-    return value
-
-
-def _count(name: str, value: Any, *, minimum: int) -> int:
-    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
-        hint = ""
-        if isinstance(value, float) and value.is_integer():
-            hint = f" Write {int(value)} instead."
-        raise TypeError(f"`{name}` must be an integer; got {value!r}.{hint}")
-    if value < minimum:
-        raise ValueError(f"`{name}` must be >= {minimum}; got {name}={int(value)!r}.")
-    return int(value)
-
-
-def _positive(name: str, value: Any) -> float:
-    value = _real(name, value)
-    if not value > 0.0:
-        raise ValueError(f"`{name}` must be a positive number; got {name}={value!r}.")
     return value
 
 
@@ -410,7 +385,7 @@ class GradientNorm(Criterion):
         rtol: float = DEFAULT_GRADIENT_RTOL,
         norm: float = math.inf,
     ) -> None:
-        self.atol = _tolerance("atol", atol)
+        self.atol = _validate.nonnegative("atol", atol)
         self.rtol = _relative("rtol", rtol)
         self.norm = _norm_order(norm)
 
@@ -466,9 +441,9 @@ class ValueChange(_History):
         self, *, atol: float = 0.0, rtol: float = DEFAULT_VALUE_RTOL, window: int = 1
     ) -> None:
         super().__init__()
-        self.atol = _tolerance("atol", atol)
+        self.atol = _validate.nonnegative("atol", atol)
         self.rtol = _relative("rtol", rtol)
-        self.window = _count("window", window, minimum=1)
+        self.window = _validate.integer("window", window, minimum=1)
         self._values: deque[float] = deque(maxlen=self.window + 1)
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
@@ -521,7 +496,7 @@ class StepLength(_History):
 
     def __init__(self, *, atol: float = 1e-12, rtol: float = 1e-10, norm: float = math.inf) -> None:
         super().__init__()
-        self.atol = _tolerance("atol", atol)
+        self.atol = _validate.nonnegative("atol", atol)
         self.rtol = _relative("rtol", rtol)
         self.norm = _norm_order(norm)
         self._previous: np.ndarray | None = None
@@ -571,7 +546,7 @@ class MaxIterations(Criterion):
     __slots__ = ("n",)
 
     def __init__(self, n: int) -> None:
-        self.n = _count("n", n, minimum=0)
+        self.n = _validate.integer("n", n, minimum=0)
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
         return [(None, self.n)]
@@ -602,7 +577,7 @@ class MaxEvaluations(Criterion):
     __slots__ = ("n",)
 
     def __init__(self, n: int) -> None:
-        self.n = _count("n", n, minimum=0)
+        self.n = _validate.integer("n", n, minimum=0)
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
         return [(None, self.n)]
@@ -633,7 +608,7 @@ class TimeLimit(Criterion):
     __slots__ = ("seconds",)
 
     def __init__(self, seconds: float) -> None:
-        self.seconds = _positive("seconds", seconds)
+        self.seconds = _positive_seconds("seconds", seconds)
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
         return [(None, self.seconds)]
@@ -676,8 +651,8 @@ class Divergence(Criterion):
     __slots__ = ("bound", "growth")
 
     def __init__(self, *, bound: float = DEFAULT_BOUND, growth: float | None = None) -> None:
-        self.bound = _positive("bound", bound)
-        self.growth = None if growth is None else _tolerance("growth", growth)
+        self.bound = _positive_seconds("bound", bound)
+        self.growth = None if growth is None else _validate.nonnegative("growth", growth)
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
         return [("bound", self.bound), ("growth", self.growth)]
@@ -732,7 +707,7 @@ class Stall(_History):
 
     def __init__(self, *, iterations: int = DEFAULT_STALL_ITERATIONS, rtol: float = 0.0) -> None:
         super().__init__()
-        self.iterations = _count("iterations", iterations, minimum=1)
+        self.iterations = _validate.integer("iterations", iterations, minimum=1)
         self.rtol = _relative("rtol", rtol)
         self._best: float | None = None
         self._improved_at = 0

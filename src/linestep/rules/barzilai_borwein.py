@@ -10,9 +10,8 @@ import numpy as np
 
 from linestep import _array, _initial, _validate
 from linestep._controller import StepController
-from linestep._objective import Objective
 from linestep._ray import Point, Ray
-from linestep._step import Status, Step
+from linestep._step import Status
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 __all__ = ["BarzilaiBorwein"]
@@ -122,6 +121,7 @@ class BarzilaiBorwein(StepController):
     """
 
     _fields = ("variant", "first", "min_size", "max_size", "globalize")
+    negative_gradient_only = True
 
     def __init__(self, *, variant: str = "alternate", first: Any = None,
                  min_size: float = 1e-10, max_size: float = 1e10,
@@ -164,13 +164,6 @@ class BarzilaiBorwein(StepController):
             self.globalize.reset()
 
     # -- hooks ---------------------------------------------------------------------
-    def _no_descent(self, objective: Objective, origin: Point, start_values: int,
-                    start_gradients: int) -> Step:
-        # φ'(0) >= 0 with a nonzero gradient: d cannot be c·(−∇f) with c > 0.
-        if _array.max_abs(origin.gradient) > 0.0:
-            raise _validate.not_negative_gradient(_NAME)
-        return super()._no_descent(objective, origin, start_values, start_gradients)
-
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
         scale = _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,

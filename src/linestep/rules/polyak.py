@@ -4,9 +4,8 @@ from __future__ import annotations
 
 from linestep import _array, _validate
 from linestep._controller import StepController
-from linestep._objective import Objective
-from linestep._ray import Point, Ray
-from linestep._step import Status, Step
+from linestep._ray import Ray
+from linestep._step import Status
 from linestep.rules.barzilai_borwein import DIRECTION_RTOL
 from linestep.searches._backtrack import NON_FINITE_SHRINK
 
@@ -112,6 +111,7 @@ class Polyak(StepController):
     """
 
     _fields = ("f_min", "max_size", "gap", "path_bound")
+    negative_gradient_only = True
 
     def __init__(self, *, f_min: float | None = None, max_size: float = 1e10,
                  gap: float | None = None, path_bound: float | None = None) -> None:
@@ -130,13 +130,6 @@ class Polyak(StepController):
         self._delta: float | None = None  # δ of the group
         self._path = 0.0  # Σ t·‖d‖ since the group started
         self._bound: float | None = self.path_bound  # B in use
-
-    def _no_descent(self, objective: Objective, origin: Point, start_values: int,
-                    start_gradients: int) -> Step:
-        # φ'(0) >= 0 with a nonzero gradient: d cannot be c·(−∇f) with c > 0.
-        if _array.max_abs(origin.gradient) > 0.0:
-            raise _validate.not_negative_gradient(_NAME)
-        return super()._no_descent(objective, origin, start_values, start_gradients)
 
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
