@@ -84,8 +84,9 @@ def main() -> None:
         timings["own"].append(per_call(own_evaluations, args.repeat))
         timings["fg"].append(per_call(value_and_gradient, args.repeat))
         timings["scipy"].append(per_call(call_scipy, args.repeat // 10))
-    ratios = [(a - o) / fg for a, o, fg in zip(timings["armijo"], timings["own"], timings["fg"], strict=False)]
-    scipy_ratio = [s / a for s, a in zip(timings["scipy"], timings["armijo"], strict=False)]
+    ratios = [(a - o) / fg for a, o, fg
+              in zip(timings["armijo"], timings["own"], timings["fg"], strict=True)]
+    scipy_ratio = [s / a for s, a in zip(timings["scipy"], timings["armijo"], strict=True)]
     median = {name: statistics.median(values) for name, values in timings.items()}
 
     print("n = 10 quadratic, first trial accepted; medians over "

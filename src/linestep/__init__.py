@@ -22,8 +22,8 @@ from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTr
 from linestep._objective import Objective
 from linestep._step import Controller, Evaluations, Status, Step, Trial
 from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
-from linestep.rules.fallback import Fallback
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
+from linestep.rules.fallback import Fallback
 from linestep.rules.fixed import Fixed
 from linestep.rules.polyak import Polyak
 from linestep.rules.schedule import Schedule
