@@ -1,0 +1,132 @@
+"""The SQLite results file: round trip, one row per key, refusal of foreign or old files."""
+
+from __future__ import annotations
+
+import math
+import sqlite3
+from pathlib import Path
+
+import pytest
+
+from linestep.bench import storage
+from linestep.bench.storage import COLUMNS, SCHEMA_VERSION, ResultsFileError, ResultStore, run_key
+
+
+def _row(key: str = "k1", **changes: object) -> dict:
+    row = {name: None for name in COLUMNS}
+    row.update(key=key, problem="bowl", dimension=2, controller="Armijo()",
+               controller_repr="Armijo(c1=0.0001)", direction="SteepestDescent()",
+               start="standard", seed=None, stop="MaxIterations(5)", kind="converged",
+               reason="done", value=0.5, iterations=3, value_evaluations=4,
+               gradient_evaluations=4, seconds=0.01, objective_seconds=0.001, solved=True,
+               x=[1.0, 2.0], history={"value": [1.0, math.inf, 0.5], "status": ["start"]})
+    row.update(changes)
+    return row
+
+
+def test_round_trip_keeps_every_field(tmp_path: Path) -> None:
+    with ResultStore(tmp_path / "results.sqlite") as store:
+        assert store.write(_row())
+        [row] = list(store.rows())
+    assert row == _row()  # JSON columns decoded; inf survives; solved back to bool
+    assert row["history"]["value"][1] == math.inf
+
+
+def test_a_folder_means_the_results_file_inside_it(tmp_path: Path) -> None:
+    with ResultStore(tmp_path) as store:
+        store.write(_row())
+    assert (tmp_path / storage.FILE_NAME).exists()
+
+
+def test_a_key_is_stored_once(tmp_path: Path) -> None:
+    with ResultStore(tmp_path / "r.sqlite") as store:
+        assert store.write(_row("a"))
+        assert not store.write(_row("a", value=7.0))  # a second write of a key is ignored
+        assert store.write(_row("b"))
+        assert len(store) == 2 and store.keys() == {"a", "b"}
+        assert [row["value"] for row in store.rows()] == [0.5, 0.5]
+
+
+def test_each_write_is_committed_at_once(tmp_path: Path) -> None:
+    path = tmp_path / "r.sqlite"
+    store = ResultStore(path)
+    store.write(_row("a"))
+    # Another connection sees the row before this one is closed: nothing waits for the end.
+    with sqlite3.connect(path) as other:
+        assert other.execute("SELECT COUNT(*) FROM runs").fetchone()[0] == 1
+    store.close()
+
+
+def test_metadata(tmp_path: Path) -> None:
+    with ResultStore(tmp_path / "r.sqlite") as store:
+        metadata = store.metadata()
+    assert metadata["format"] == "linestep-bench-results"
+    assert metadata["schema_version"] == str(SCHEMA_VERSION)
+
+
+def test_a_missing_column_is_an_error(tmp_path: Path) -> None:
+    row = _row()
+    del row["seed"]
+    with ResultStore(tmp_path / "r.sqlite") as store, pytest.raises(ValueError, match="seed"):
+        store.write(row)
+
+
+def _unchanged(path: Path, before: bytes) -> None:
+    assert path.read_bytes() == before
+
+
+def test_a_file_that_is_not_a_database_is_refused_and_left_alone(tmp_path: Path) -> None:
+    path = tmp_path / "results.sqlite"
+    path.write_text("these are my notes, not a database\n" * 20)
+    before = path.read_bytes()
+    with pytest.raises(ResultsFileError, match="not a linestep results file"):
+        ResultStore(path)
+    _unchanged(path, before)
+
+
+def test_a_foreign_database_is_refused_and_left_alone(tmp_path: Path) -> None:
+    path = tmp_path / "results.sqlite"
+    with sqlite3.connect(path) as connection:
+        connection.execute("CREATE TABLE measurements (t REAL)")
+    before = path.read_bytes()
+    with pytest.raises(ResultsFileError, match="did not write"):
+        ResultStore(path)
+    _unchanged(path, before)
+
+
+def test_another_schema_version_is_refused_with_both_versions_named(tmp_path: Path) -> None:
+    path = tmp_path / "results.sqlite"
+    with ResultStore(path) as store:
+        store.write(_row())
+    with sqlite3.connect(path) as connection:
+        connection.execute("UPDATE metadata SET value = '99' WHERE name = 'schema_version'")
+    before = path.read_bytes()
+    with pytest.raises(ResultsFileError, match=r"schema version 99.*version 1"):
+        ResultStore(path)
+    with pytest.raises(ResultsFileError, match="schema version 99"):
+        ResultStore(path, read_only=True)
+    _unchanged(path, before)
+
+
+def test_read_only_opening(tmp_path: Path) -> None:
+    with pytest.raises(FileNotFoundError, match="linestep bench"):
+        ResultStore(tmp_path / "absent.sqlite", read_only=True)
+    assert not (tmp_path / "absent.sqlite").exists()
+    path = tmp_path / "r.sqlite"
+    with ResultStore(path) as store:
+        store.write(_row())
+    with ResultStore(path, read_only=True) as store:
+        assert len(store) == 1
+        with pytest.raises(ResultsFileError, match="read-only"):
+            store.write(_row("other"))
+
+
+def test_run_key_depends_on_every_part() -> None:
+    parts = dict(problem="p", dimension=2, controller_repr="C()", direction="D()",
+                 start="standard", seed=None, stop="S()")
+    keys = {run_key(**parts)}
+    for name, other in [("problem", "q"), ("dimension", 3), ("controller_repr", "C(a=1)"),
+                        ("direction", "E()"), ("start", "x10"), ("seed", 0), ("stop", "T()")]:
+        keys.add(run_key(**{**parts, name: other}))
+    assert len(keys) == 8
+    assert run_key(**parts) == run_key(**parts)  # stable across calls (and processes)
