@@ -325,3 +325,24 @@ def test_rosenbrock_problem_matches_scipy():
         assert problem.value(x) == pytest.approx(optimize.rosen(x), rel=1e-12, abs=1e-12)
         np.testing.assert_allclose(problem.gradient(x), optimize.rosen_der(x), rtol=1e-12,
                                    atol=1e-10)
+
+
+def test_a_non_finite_gradient_ends_the_run_as_failed_whatever_the_stopping_rule():
+    # f(x) = sqrt(|x|): a fixed step of 2 from x = 1 lands on x = 0, where f = 0 is
+    # finite but the gradient sign(x)/(2 sqrt|x|) is 0/0. The stopping rule has no
+    # Divergence member, so descend itself must end the run instead of passing the
+    # NaN gradient to the controller (whose argument check would raise).
+    from linestep import Fixed, descend, stopping
+
+    def fun(x):
+        return float(np.sum(np.sqrt(np.abs(x))))
+
+    def grad(x):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.sign(x) / (2 * np.sqrt(np.abs(x)))
+
+    run = descend((fun, grad), np.array([1.0]), controller=Fixed(2.0),
+                  stop=stopping.GradientNorm(atol=1e-6, rtol=0) | stopping.MaxIterations(50))
+    assert run.verdict.kind.value == "failed"
+    assert "non-finite" in run.verdict.reason
+    assert run.iterations == 1

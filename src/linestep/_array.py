@@ -29,7 +29,10 @@ def namespace(x: Any) -> Any:
 def as_point(name: str, x: Any) -> Any:
     """Return `x` as a floating array (numpy unless it is already a foreign array).
 
-    Integer or boolean input becomes float64; floating dtypes are kept.
+    Integer or boolean input becomes float64 (for another array library, its default
+    floating dtype: float32 for JAX unless x64 is enabled); floating dtypes are kept.
+    A traced JAX value (inside jax.jit, vmap or grad) raises TypeError pointing to
+    linestep.jax.
     """
     if isinstance(x, np.ndarray):
         if x.dtype.kind in _FLOAT_KINDS:
@@ -38,9 +41,16 @@ def as_point(name: str, x: Any) -> Any:
             raise TypeError(f"`{name}` must hold real numbers; got dtype {x.dtype}.")
         return x.astype(np.float64)
     if hasattr(x, "__array_namespace__"):
+        if _is_traced(x):
+            raise TypeError(
+                f"`{name}` is a traced JAX value: the linestep controllers run Python "
+                "control flow on concrete numbers and cannot run inside jax.jit, "
+                "jax.vmap or jax.grad. Call them outside the transformation, or use "
+                "the compiled searches of linestep.jax (e.g. linestep.jax.armijo())."
+            )
         xp = x.__array_namespace__()
-        if not xp.isdtype(x.dtype, "real floating"):
-            x = xp.astype(x, xp.float64 if _has_float64(xp) else xp.float32)
+        if not xp.isdtype(x.dtype, ("real floating", "complex floating")):
+            x = xp.astype(x, _default_float(xp))
         return x
     try:
         array = np.asarray(x)
@@ -53,11 +63,21 @@ def as_point(name: str, x: Any) -> Any:
     return array
 
 
-def _has_float64(xp: Any) -> bool:
-    try:
-        return xp.asarray(0.0, dtype=xp.float64).dtype == xp.float64
-    except Exception:  # noqa: BLE001 - libraries without float64 (JAX x64 off) raise or warn
-        return False
+def _default_float(xp: Any) -> Any:
+    """The namespace's default real floating dtype (float32 for JAX unless x64 is on)."""
+    info = getattr(xp, "__array_namespace_info__", None)
+    if info is not None:
+        try:
+            return info().default_dtypes()["real floating"]
+        except Exception:  # noqa: BLE001 - an incomplete info object: fall back below
+            pass
+    return xp.asarray(0.0).dtype
+
+
+def _is_traced(x: Any) -> bool:
+    """True for a JAX tracer (a value inside jax.jit/vmap/grad), found without importing JAX."""
+    return any(cls.__name__ == "Tracer" and cls.__module__.startswith("jax")
+               for cls in type(x).__mro__)
 
 
 def dot(a: Any, b: Any) -> float:

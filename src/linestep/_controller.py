@@ -169,7 +169,8 @@ class StepController:
                 raise TypeError(
                     f"{type(self).__name__} needs the gradient at x: pass `gradient=` or an "
                     "objective with a gradient, such as `(fun, grad)`, `Objective(fun, grad)` "
-                    "or `Objective(fun_and_grad, fused=True)`."
+                    "or `Objective(fun_and_grad, fused=True)`; for a JAX function, "
+                    "`linestep.jax.objective(fun)` adds the gradient by autodiff."
                 )
             if value is None and objective.fused:
                 value, gradient = objective.value_and_gradient(x)

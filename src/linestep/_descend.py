@@ -168,6 +168,13 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     verdict = stop(progress)
     iteration = 0
     while verdict is None:
+        if not (math.isfinite(value) and _array.all_finite(gradient)):
+            # Whatever the stopping rule, a non-finite point ends the run (never a crash).
+            verdict = Verdict(kind=Kind.failed, criterion="descend", reason=(
+                f"The value or gradient became non-finite at iteration {iteration} "
+                f"(f = {value!r}); the step is probably too large, so use a line search "
+                "or a smaller step."))
+            break
         d = direction(x, gradient)
         restarted = bool(getattr(direction, "restarted", False))
         step = controller(objective, x, d, value=value, gradient=gradient)

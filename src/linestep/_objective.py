@@ -108,7 +108,9 @@ class Objective:
 
 _NO_GRADIENT = (
     "This controller needs gradients but the objective has none. Pass "
-    "`(fun, grad)`, `Objective(fun, grad)`, or `Objective(fun_and_grad, fused=True)`."
+    "`(fun, grad)`, `Objective(fun, grad)`, or `Objective(fun_and_grad, fused=True)`; "
+    "for a function written with jax.numpy, `linestep.jax.objective(fun)` derives the "
+    "gradient by autodiff."
 )
 
 

@@ -1,0 +1,149 @@
+"""Compiled rules that take a step without searching: fixed and scheduled sizes.
+
+As the host `Fixed` and `Schedule`, the new point is evaluated once as a guard:
+a non-finite value leaves x unchanged with status ``non_finite``; an increase
+in f is accepted (that is what a fixed rate does).
+
+References
+----------
+I. Loshchilov and F. Hutter, "SGDR: Stochastic gradient descent with warm
+restarts", ICLR 2017 (cosine annealing); constant, decaying and warm-up rates
+are common practice.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import jax.numpy as jnp
+
+import jax
+from linestep import _validate
+from linestep.jax._line import INF, Line
+from linestep.jax._search import ACCEPTED, NON_FINITE, CompiledSearch
+
+
+@dataclass(frozen=True, eq=True, repr=False)
+class ScheduledSearch(CompiledSearch):
+    """A step size from a traceable function of the call counter k (constant for `fixed`)."""
+
+    function: Any
+    label: str
+    fused: bool = True
+    _factory = "schedule"
+
+    def __repr__(self) -> str:
+        return self.label
+
+    def _begin_method(self, x: Any, dtype: Any) -> Any:
+        return jnp.zeros((), jnp.int32)  # k, the calls that reached the rule
+
+    def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
+        k = state.method
+        size = jnp.asarray(self.function(k), line.dtype)
+        if jnp.shape(size) != ():
+            raise TypeError(
+                f"The schedule must return a scalar size for the counter k; got shape "
+                f"{jnp.shape(size)}."
+            )
+        usable = jnp.isfinite(size) & (size > 0)
+        # One guard evaluation, made only when the call is active.
+        point, tally = jax.lax.cond(active, lambda: line.evaluate(size, line.start()),
+                                    lambda: (line.origin(), line.start()))
+        good = usable & (point.value < INF)
+        status = jnp.where(good, ACCEPTED, NON_FINITE).astype(jnp.int32)
+        return point, good, status, tally, k + 1
+
+
+def fixed(size: float, *, fused: bool = True) -> ScheduledSearch:
+    """Compiled constant step x + size·d, guarded against non-finite values.
+
+    The compiled twin of `linestep.Fixed`.
+
+    Parameters
+    ----------
+    size : float
+        The step length, > 0.
+    fused : bool
+        Evaluate f and ∇f at the new point in one pass (True), or f first and ∇f
+        only when the point is kept (False). A fused guard also reads a
+        non-finite gradient as a non-finite value.
+
+    Returns
+    -------
+    ScheduledSearch
+        ``accepted``: `x` = x + size·d (f may have risen). ``non_finite``: f was not
+        finite there; `x` unchanged, size 0. ``not_descent``: φ'(0) >= 0; nothing
+        evaluated.
+
+    Examples
+    --------
+    >>> import jax.numpy as jnp
+    >>> import linestep.jax as lj
+    >>> rule = lj.fixed(0.25)
+    >>> x = jnp.array([2.0])
+    >>> out = rule.step(lambda x: jnp.sum(x * x), x, jnp.array([-4.0]), state=rule.begin(x))
+    >>> float(out.x[0]), float(out.value)
+    (1.0, 1.0)
+    """
+    size = _validate.positive("size", size)
+    if not isinstance(fused, bool):
+        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
+    return ScheduledSearch(function=_Constant(size), label=f"fixed({size!r})", fused=fused)
+
+
+def schedule(function: Any, *, fused: bool = True) -> ScheduledSearch:
+    """Compiled step size from the call counter: x + function(k)·d, k = 0, 1, 2, ...
+
+    The compiled twin of `linestep.Schedule` built from a callable. `function`
+    receives k as a traced int32 array, so write it with `jax.numpy`
+    (``lambda k: 0.1 * 0.9 ** k``, ``lambda k: 0.5 * (1 + jnp.cos(jnp.pi * k / 100))``).
+    k counts the calls that reach the rule (not those answered ``not_descent``)
+    and lives in the `SearchState`.
+
+    Parameters
+    ----------
+    function : callable
+        k -> size, traceable. A size that is not finite and positive (which the
+        host would raise for) leaves x unchanged with status ``non_finite``: a
+        compiled function cannot raise on data.
+    fused : bool
+        As for `fixed`.
+
+    Returns
+    -------
+    ScheduledSearch
+        Statuses as for `fixed`.
+
+    Examples
+    --------
+    >>> import jax.numpy as jnp
+    >>> import linestep.jax as lj
+    >>> rule = lj.schedule(lambda k: 0.5 * 0.5 ** k)
+    >>> f = lambda x: jnp.sum(x * x)
+    >>> x = jnp.array([1.0]); state = rule.begin(x)
+    >>> for _ in range(3):
+    ...     out = rule.step(f, x, -x, state=state)
+    ...     x, state = out.x, out.state
+    ...     print(float(out.size), float(x[0]))
+    0.5 0.5
+    0.25 0.375
+    0.125 0.328125
+    """
+    if not callable(function):
+        raise TypeError(
+            "`function` must be a traceable callable k -> size, such as "
+            f"`lambda k: 0.1 * 0.9 ** k`; got {function!r}."
+        )
+    if not isinstance(fused, bool):
+        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
+    return ScheduledSearch(function=function, label=f"schedule({function!r})", fused=fused)
+
+
+@dataclass(frozen=True)
+class _Constant:
+    size: float
+
+    def __call__(self, k: Any) -> float:
+        return self.size
