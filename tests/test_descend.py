@@ -23,6 +23,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
+from _problems import objectives, quadratic, random_spd, square, square_gradient
 from linestep import (
     Armijo,
     Evaluations,
@@ -33,21 +34,6 @@ from linestep import (
     descend,
     stopping,
 )
-
-
-def square(x):
-    return float(np.sum(x * x))
-
-
-def square_gradient(x):
-    return 2.0 * x
-
-
-def random_spd(rng, n, log10_condition):
-    """Q·diag(λ)·Qᵀ with random orthogonal Q and λ log-spaced in [1, 10^k]."""
-    q, r = np.linalg.qr(rng.standard_normal((n, n)))
-    q *= np.sign(np.diag(r))
-    return (q * np.logspace(0.0, log10_condition, n)) @ q.T
 
 
 def tight_stop():
@@ -116,34 +102,10 @@ def test_user_exception_propagates_unchanged():
 # --------------------------------------------------------------------------- monotone
 
 
-@st.composite
-def smooth_problems(draw):
-    rng = np.random.default_rng(draw(st.integers(0, 2**32 - 1)))
-    n = draw(st.integers(1, 20))
-    if draw(st.booleans()):
-        matrix = random_spd(rng, n, draw(st.floats(0.0, 6.0)))
-        b = rng.standard_normal(n)
-
-        def f(x):
-            return float(0.5 * x @ matrix @ x - b @ x)
-
-        def g(x):
-            return matrix @ x - b
-    else:
-        a = rng.uniform(0.5, 5.0, n)
-
-        def f(x):  # invented nonconvex test function
-            return float(np.sum(np.sin(a * x)) + 0.1 * x @ x)
-
-        def g(x):
-            return a * np.cos(a * x) + 0.2 * x
-
-    return f, g, rng.standard_normal(n) * 3.0
-
-
-@given(smooth_problems(), st.sampled_from(["armijo", "goldstein"]))
+@given(objectives(), st.sampled_from(["armijo", "goldstein"]))
 def test_descend_never_increases_f(problem, kind):
-    f, g, x0 = problem
+    f, g, rng, n = problem
+    x0 = rng.standard_normal(n) * 3.0
     controller = Armijo() if kind == "armijo" else Goldstein()
     run = descend((f, g), x0, controller=controller,
                   stop=stopping.default(max_iterations=60))
@@ -246,11 +208,8 @@ def test_exact_line_search_steepest_descent_contracts_as_nw_theorem_3_3(seed, n,
 
 
 def _quadratic_5d():
-    rng = np.random.default_rng(7)
-    matrix = random_spd(rng, 5, 2.0)  # κ = 100
-    b = rng.standard_normal(5)
-    return (lambda x: float(0.5 * x @ matrix @ x - b @ x), lambda x: matrix @ x - b,
-            np.zeros(5))
+    f, g = quadratic(np.random.default_rng(7), 5, 2.0)  # κ = 100
+    return f, g, np.zeros(5)
 
 
 def _curved_valley_2d():

@@ -14,6 +14,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from _problems import random_spd
 from linestep import Armijo, descend, stopping
 from linestep.directions import (
     LBFGS,
@@ -30,9 +31,8 @@ from linestep.directions import (
 def spd_quadratic(n, *, seed=0, condition=100.0):
     """A, b of an invented strictly convex quadratic with eigenvalues in [1, condition]."""
     rng = np.random.default_rng(seed)
-    rotation, _ = np.linalg.qr(rng.standard_normal((n, n)))
-    A = rotation @ np.diag(np.logspace(0.0, math.log10(condition), n)) @ rotation.T
-    A = (A + A.T) / 2
+    A = random_spd(rng, n, math.log10(condition))
+    A = (A + A.T) / 2  # exactly symmetric
     return A, rng.standard_normal(n)
 
 

@@ -20,6 +20,7 @@ import math
 import numpy as np
 import pytest
 
+from _problems import random_spd
 from linestep import Armijo, Evaluations, Fallback, ScaledTrial, Status
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.searches.nonmonotone import NonmonotoneArmijo
@@ -31,12 +32,6 @@ def bowl(scale):
     """f(x) = ½ Σ scaleᵢ xᵢ² (invented test problem), minimiser 0."""
     scale = np.asarray(scale, dtype=float)
     return (lambda x: 0.5 * float(x @ (scale * x))), (lambda x: scale * x)
-
-
-def random_spd(rng, n, condition):
-    q, r = np.linalg.qr(rng.standard_normal((n, n)))
-    q *= np.sign(np.diag(r))
-    return (q * np.logspace(0.0, math.log10(condition), n)) @ q.T
 
 
 def run(rule, f, g, x, iterations, tolerance=0.0):
@@ -74,7 +69,7 @@ def test_every_step_is_the_bb_formula_from_the_previous_call(variant):
     # Recomputed here from the iterates: BB1 sᵀs/sᵀy, BB2 sᵀy/yᵀy (BB 1988, eqs. for
     # the two-point step), alternating BB1, BB2, BB1, ... from the second call on.
     rng = np.random.default_rng(3)
-    a = random_spd(rng, 6, 50.0)
+    a = random_spd(rng, 6, math.log10(50.0))
     f, g = (lambda x: 0.5 * float(x @ a @ x)), (lambda x: a @ x)
     xs, steps = run(BarzilaiBorwein(variant=variant, first=0.01, globalize=None), f, g,
                     rng.standard_normal(6), 12)
@@ -103,7 +98,7 @@ def test_steps_are_clipped():
 def test_scaled_negative_gradient_moves_x_to_the_same_point():
     # d = −3g is accepted; BB steps are along −g, so the size along d is α/3.
     rng = np.random.default_rng(5)
-    a = random_spd(rng, 4, 20.0)
+    a = random_spd(rng, 4, math.log10(20.0))
     f, g = (lambda x: 0.5 * float(x @ a @ x)), (lambda x: a @ x)
     plain, scaled = (BarzilaiBorwein(globalize=None) for _ in range(2))
     x_plain = x_scaled = rng.standard_normal(4)
@@ -126,7 +121,7 @@ def test_converges_on_strictly_convex_quadratics(variant, globalize):
     # cancellation: a value-based search can then follow ‖g‖ down to 1e-10·‖g₀‖.
     rng = np.random.default_rng(11)
     for _ in range(3):
-        a = random_spd(rng, 40, 1e3)
+        a = random_spd(rng, 40, 3.0)
         solution = rng.standard_normal(40)
         f, g = (lambda x, a=a, s=solution: 0.5 * float((x - s) @ a @ (x - s))), \
             (lambda x, a=a, s=solution: a @ (x - s))

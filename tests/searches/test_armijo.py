@@ -11,10 +11,11 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import assume, given
+from hypothesis import given
 from hypothesis import strategies as st
 
 import linestep
+from _problems import descent_problems, square, square_gradient
 from linestep import (
     Armijo,
     Evaluations,
@@ -32,95 +33,8 @@ from linestep import (
 ULPS = 8 * np.finfo(float).eps
 
 
-def square(x):
-    return float(np.sum(x * x))
-
-
-def square_gradient(x):
-    return 2.0 * x
-
-
 X = np.array([3.0, -4.0])
 D = -square_gradient(X)  # [−6, 8]; φ(t) = 25(1 − 2t)², φ(0) = 25, φ'(0) = −100
-
-
-# --------------------------------------------------------------------------- problems
-
-
-def random_spd(rng, n, log10_condition):
-    """A = Q·diag(λ)·Qᵀ with random orthogonal Q and log-spaced λ in [1, 10^k]."""
-    q, r = np.linalg.qr(rng.standard_normal((n, n)))
-    q *= np.sign(np.diag(r))
-    eigenvalues = np.logspace(0.0, log10_condition, n)
-    return (q * eigenvalues) @ q.T
-
-
-def quadratic(rng, n, log10_condition):
-    a = random_spd(rng, n, log10_condition)
-    b = rng.standard_normal(n)
-
-    def f(x):
-        return float(0.5 * x @ a @ x - b @ x)
-
-    def g(x):
-        return a @ x - b
-
-    return f, g
-
-
-def sines(rng, n):
-    """Nonconvex and smooth: Σ sin(aᵢxᵢ) + 0.1‖x‖² (invented)."""
-    a = rng.uniform(0.5, 5.0, n)
-
-    def f(x):
-        return float(np.sum(np.sin(a * x)) + 0.1 * x @ x)
-
-    def g(x):
-        return a * np.cos(a * x) + 0.2 * x
-
-    return f, g
-
-
-def rosenbrock_chain(rng, n):
-    """Σ 100(x_{i+1} − x_i²)² + (1 − x_i)², the extended Rosenbrock valley."""
-
-    def f(x):
-        return float(np.sum(100.0 * (x[1:] - x[:-1] ** 2) ** 2 + (1.0 - x[:-1]) ** 2))
-
-    def g(x):
-        out = np.zeros_like(x)
-        inner = x[1:] - x[:-1] ** 2
-        out[:-1] += -400.0 * x[:-1] * inner - 2.0 * (1.0 - x[:-1])
-        out[1:] += 200.0 * inner
-        return out
-
-    return f, g
-
-
-@st.composite
-def problems(draw):
-    """(f, g, x, d) on a random problem with a random descent direction."""
-    seed = draw(st.integers(0, 2**32 - 1))
-    rng = np.random.default_rng(seed)
-    kind = draw(st.sampled_from(["quadratic", "sines", "rosenbrock"]))
-    n = draw(st.integers(2 if kind == "rosenbrock" else 1, 20))
-    if kind == "quadratic":
-        f, g = quadratic(rng, n, draw(st.floats(0.0, 6.0)))
-    elif kind == "sines":
-        f, g = sines(rng, n)
-    else:
-        f, g = rosenbrock_chain(rng, n)
-    x = rng.standard_normal(n) * draw(st.sampled_from([0.1, 1.0, 10.0]))
-    gradient = g(x)
-    if draw(st.booleans()):
-        d = -gradient
-    else:
-        d = rng.standard_normal(n)
-        if d @ gradient > 0:
-            d = -d
-    d = d * 10.0 ** draw(st.floats(-3.0, 3.0))
-    assume(d @ gradient < 0)
-    return f, g, x, d
 
 
 armijo_options = st.fixed_dictionaries({
@@ -135,7 +49,7 @@ armijo_options = st.fixed_dictionaries({
 # --------------------------------------------------------------------------- properties
 
 
-@given(problems(), armijo_options)
+@given(descent_problems(("quadratic", "sines", "rosenbrock")), armijo_options)
 def test_accepted_steps_satisfy_sufficient_decrease(problem, options):
     f, g, x, d = problem
     step = Armijo(**options)((f, g), x, d)

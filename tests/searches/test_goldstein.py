@@ -11,59 +11,17 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import assume, given
+from hypothesis import given
 from hypothesis import strategies as st
 
 import linestep
+from _problems import descent_problems, square, square_gradient
 from linestep import Evaluations, Goldstein, Objective, PreviousTrial, ScaledTrial, Status
 
 ULPS = 8 * np.finfo(float).eps  # slack for re-checking an inequality the search checked
 
 
-def square(x):
-    return float(np.sum(x * x))
-
-
-def square_gradient(x):
-    return 2.0 * x
-
-
-@st.composite
-def problems(draw):
-    """(f, g, x, d): a random SPD quadratic (κ ≤ 1e6) or Σ sin(aᵢxᵢ) + 0.1‖x‖²."""
-    rng = np.random.default_rng(draw(st.integers(0, 2**32 - 1)))
-    n = draw(st.integers(1, 20))
-    if draw(st.booleans()):
-        q, r = np.linalg.qr(rng.standard_normal((n, n)))
-        q *= np.sign(np.diag(r))
-        matrix = (q * np.logspace(0.0, draw(st.floats(0.0, 6.0)), n)) @ q.T
-        b = rng.standard_normal(n)
-
-        def f(x):
-            return float(0.5 * x @ matrix @ x - b @ x)
-
-        def g(x):
-            return matrix @ x - b
-    else:
-        a = rng.uniform(0.5, 5.0, n)
-
-        def f(x):
-            return float(np.sum(np.sin(a * x)) + 0.1 * x @ x)
-
-        def g(x):
-            return a * np.cos(a * x) + 0.2 * x
-
-    x = rng.standard_normal(n) * draw(st.sampled_from([0.1, 1.0, 10.0]))
-    gradient = g(x)
-    d = -gradient if draw(st.booleans()) else rng.standard_normal(n)
-    if d @ gradient > 0:
-        d = -d
-    d = d * 10.0 ** draw(st.floats(-3.0, 3.0))
-    assume(d @ gradient < 0)
-    return f, g, x, d
-
-
-@given(problems(), st.sampled_from([0.01, 0.1, 0.25, 0.45]),
+@given(descent_problems(), st.sampled_from([0.01, 0.1, 0.25, 0.45]),
        st.sampled_from([1.0, 1e-3, 1e3, ScaledTrial()]), st.sampled_from([1, 3, 40]))
 def test_accepted_steps_satisfy_both_goldstein_inequalities(problem, c, initial, budget):
     f, g, x, d = problem

@@ -17,6 +17,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from _problems import quadratic
 from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTrial
 from linestep._objective import Objective
 from linestep._step import Evaluations, Status
@@ -56,13 +57,10 @@ def run(search, f, g, x, d, **kwargs):
 # Invented test problems.
 
 
-def random_quadratic(seed, n, condition):
-    """f = ½xᵀAx − bᵀx with eigenvalues log-spaced in [1, condition]."""
+def random_quadratic(seed, n, log10_condition):
+    """`quadratic` with κ = 10^log10_condition, and the generator for drawing points."""
     rng = np.random.default_rng(seed)
-    q, _ = np.linalg.qr(rng.standard_normal((n, n)))
-    a = (q * np.logspace(0.0, math.log10(condition), n)) @ q.T
-    b = rng.standard_normal(n)
-    return (lambda x: float(0.5 * x @ a @ x - b @ x)), (lambda x: a @ x - b), rng
+    return (*quadratic(rng, n, log10_condition), rng)
 
 
 def random_wavy(seed, n):
@@ -388,7 +386,7 @@ def test_default_scale_is_the_current_value():
        steepest=st.booleans(), log_first=st.floats(-4.0, 4.0))
 def test_quadratics_accept_with_the_stated_conditions(seed, n, log_condition, log_scale,
                                                       steepest, log_first):
-    f, g, rng = random_quadratic(seed, n, 10.0**log_condition)
+    f, g, rng = random_quadratic(seed, n, log_condition)
     x = rng.standard_normal(n) * 10.0**log_scale
     direction = -g(x) if steepest else rng.standard_normal(n)
     if float(g(x) @ direction) >= 0.0:
@@ -450,7 +448,7 @@ def rosenbrock_gradient(x):
 
 
 def _scipy_cases():
-    f_q, g_q, _ = random_quadratic(7, 10, 1e3)
+    f_q, g_q, _ = random_quadratic(7, 10, 3.0)
     f_w, g_w, _ = random_wavy(11, 4)
     return [
         ("rosenbrock", rosenbrock, rosenbrock_gradient, np.array([-1.2, 1.0])),
@@ -486,7 +484,7 @@ def test_side_by_side_with_scipy(name, f, g, x, record_property):
 @pytest.mark.parametrize("initial", [UnitTrial(), PreviousTrial(growth=2.0),
                                      QuadraticTrial(), ScaledTrial(), 0.3, HagerZhangStart()])
 def test_initial_strategies(initial):
-    f, g, rng = random_quadratic(3, 5, 100.0)
+    f, g, rng = random_quadratic(3, 5, 2.0)
     search = HagerZhang(initial=initial)
     x = rng.standard_normal(5)
     for _ in range(4):

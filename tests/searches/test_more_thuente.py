@@ -18,6 +18,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from _problems import quadratic, sines_plus_quadratic
 from linestep import Objective, Status
 from linestep._interpolate import cubic_beyond, cubic_from_slopes
 from linestep.searches.more_thuente import MoreThuente
@@ -130,21 +131,17 @@ def test_paper_tables(table, row):
         assert slope == pytest.approx(dphi, rel=0.06)
 
 
-@pytest.mark.parametrize("table", DATA["tables"], ids=lambda t: f"table{t['table']}")
-def test_same_conditions_as_scipy(table):
-    """Our accepted step satisfies the strong Wolfe conditions that
-    scipy.optimize.line_search (Nocedal & Wright Alg. 3.5) also targets, from the
-    unit first step that scipy uses, in at most scipy's trial count + 1.
+def assert_same_conditions_as_scipy(make_search, table):
+    """Search φ of `table` from t = 1 with ``make_search(c1=, c2=)`` and with
+    scipy.optimize.line_search: ours must be accepted and strong Wolfe; scipy's step, if
+    any, must meet the same conditions; ours must use at most scipy's value count + 1.
 
-    Measured (trial points; scipy's function/gradient counts), scipy 1.17:
-    table 1: ours 2, scipy 3/2; table 2: 8, 9/6; table 3: 1, 1/1; table 4: 2, 2/1;
-    table 5: 6, scipy fails after 12/11; table 6: 7, 9/7. scipy needs c1 < c2, so
-    for Tables 4–6 (c1 = c2) it runs with c2 one ulp above c1.
+    scipy needs c1 < c2, so where c1 = c2 it runs with c2 one ulp above c1.
     """
     line_search = pytest.importorskip("scipy.optimize").line_search
     c1, c2 = table["ftol"], table["gtol"]
     phi = make_phi(table)
-    step, f0, d0 = search_phi(MoreThuente(c1=c1, c2=c2), phi)
+    step, f0, d0 = search_phi(make_search(c1=c1, c2=c2), phi)
     assert step.status is Status.accepted
     assert_strong_wolfe(step, f0, d0, c1, c2)
     objective = along_line(phi)
@@ -159,6 +156,20 @@ def test_same_conditions_as_scipy(table):
         assert value <= f0 + c1 * alpha * d0
         assert abs(slope) <= np.nextafter(c2, 1.0) * abs(d0)
         assert step.evaluations.values <= scipy_values + 1
+
+
+@pytest.mark.parametrize("table", DATA["tables"], ids=lambda t: f"table{t['table']}")
+def test_same_conditions_as_scipy(table):
+    """Our accepted step satisfies the strong Wolfe conditions that
+    scipy.optimize.line_search (Nocedal & Wright Alg. 3.5) also targets, from the
+    unit first step that scipy uses, in at most scipy's trial count + 1.
+
+    Measured (trial points; scipy's function/gradient counts), scipy 1.17:
+    table 1: ours 2, scipy 3/2; table 2: 8, 9/6; table 3: 1, 1/1; table 4: 2, 2/1;
+    table 5: 6, scipy fails after 12/11; table 6: 7, 9/7. scipy needs c1 < c2, so
+    for Tables 4–6 (c1 = c2) it runs with c2 one ulp above c1.
+    """
+    assert_same_conditions_as_scipy(MoreThuente, table)
 
 
 # -- exact counts on simple problems ---------------------------------------------------
@@ -187,22 +198,15 @@ def test_extrapolation_takes_the_farther_step_then_interpolates():
 
 # -- properties --------------------------------------------------------------------------
 def spd_quadratic(seed: int, n: int, log_condition: float):
+    """(f, g, x): `quadratic` with κ = 10^log_condition and a standard normal start."""
     rng = np.random.default_rng(seed)
-    q, _ = np.linalg.qr(rng.standard_normal((n, n)))
-    a = (q * np.geomspace(1.0, 10.0**log_condition, n)) @ q.T
-    b = rng.standard_normal(n)
-    return (lambda x: 0.5 * float(x @ (a @ x)) - float(b @ x), lambda x: a @ x - b,
-            rng.standard_normal(n))
+    return (*quadratic(rng, n, log_condition), rng.standard_normal(n))
 
 
-def sines_plus_quadratic(seed: int, n: int):
+def sines_with_start(seed: int, n: int):
+    """(f, g, x): `sines_plus_quadratic` and a start drawn at scale 2."""
     rng = np.random.default_rng(seed)
-    w = rng.standard_normal((3, n))
-    amplitude = rng.uniform(0.0, 3.0, 3)
-    weight = rng.uniform(0.05, 1.0)
-    return (lambda x: float(amplitude @ np.sin(w @ x)) + weight * float(x @ x),
-            lambda x: (amplitude * np.cos(w @ x)) @ w + 2.0 * weight * x,
-            2.0 * rng.standard_normal(n))
+    return (*sines_plus_quadratic(rng, n), 2.0 * rng.standard_normal(n))
 
 
 def constants():
@@ -229,7 +233,7 @@ def test_strong_wolfe_on_random_quadratics(seed, n, log_condition, scale, pair):
 def test_strong_wolfe_on_nonconvex_functions(seed, n, scale, pair):
     """Sums of sines plus a quadratic (smooth, bounded below, many local minima; invented)."""
     c1, c2 = pair
-    fun, grad, x = sines_plus_quadratic(seed, n)
+    fun, grad, x = sines_with_start(seed, n)
     g = grad(x)
     if not float(g @ g) > 1e-12:
         return

@@ -24,51 +24,18 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from _problems import extended_rosenbrock, quadratic, separable_sines, square, square_gradient
 from linestep import Armijo, Evaluations, Status, Trial
 from linestep.searches.nonmonotone import NonmonotoneArmijo
-
-
-def square(x):
-    return float(np.sum(x * x))
-
-
-def square_gradient(x):
-    return 2.0 * x
-
 
 # --------------------------------------------------------------------------- problems
 # Invented test functions: a convex quadratic, a nonconvex sum of sines with a small
 # quadratic term (bounded below), and the extended Rosenbrock valley (nonconvex).
-
-
-def quadratic(rng, n):
-    q, _ = np.linalg.qr(rng.standard_normal((n, n)))
-    a = (q * np.logspace(0.0, rng.uniform(0.0, 4.0), n)) @ q.T
-    b = rng.standard_normal(n)
-    return (lambda x: float(0.5 * x @ a @ x - b @ x)), (lambda x: a @ x - b)
-
-
-def sines(rng, n):
-    a = rng.uniform(0.5, 5.0, n)
-    return (lambda x: float(np.sum(np.sin(a * x)) + 0.05 * x @ x),
-            lambda x: a * np.cos(a * x) + 0.1 * x)
-
-
-def rosenbrock(rng, n):
-    def f(x):
-        return float(np.sum(100.0 * (x[1:] - x[:-1] ** 2) ** 2 + (1.0 - x[:-1]) ** 2))
-
-    def g(x):
-        out = np.zeros_like(x)
-        inner = x[1:] - x[:-1] ** 2
-        out[:-1] += -400.0 * x[:-1] * inner - 2.0 * (1.0 - x[:-1])
-        out[1:] += 200.0 * inner
-        return out
-
-    return f, g
-
-
-PROBLEMS = {"quadratic": quadratic, "sines": sines, "rosenbrock": rosenbrock}
+PROBLEMS = {
+    "quadratic": lambda rng, n: quadratic(rng, n, rng.uniform(0.0, 4.0)),  # κ ≤ 1e4
+    "sines": lambda rng, n: separable_sines(rng, n, weight=0.05),
+    "rosenbrock": lambda rng, n: extended_rosenbrock(),
+}
 
 
 class PaperReference:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-import warnings
 
 import numpy as np
 import pytest
@@ -15,13 +14,13 @@ from linestep.searches.wolfe import Wolfe
 
 from .test_more_thuente import (
     DATA,
-    along_line,
+    assert_same_conditions_as_scipy,
     assert_strong_wolfe,
     constants,
     make_phi,
     quadratic_1d,
     search_phi,
-    sines_plus_quadratic,
+    sines_with_start,
     spd_quadratic,
 )
 
@@ -111,24 +110,7 @@ def test_same_conditions_as_scipy(table):
     at trials that fail sufficient decrease, we always do. Tables 4–6 have c1 = c2,
     which scipy refuses, so scipy runs with c2 one ulp above c1.
     """
-    line_search = pytest.importorskip("scipy.optimize").line_search
-    c1, c2 = table["ftol"], table["gtol"]
-    phi = make_phi(table)
-    step, f0, d0 = search_phi(Wolfe(c1=c1, c2=c2), phi)
-    assert step.status is Status.accepted
-    assert_strong_wolfe(step, f0, d0, c1, c2)
-    objective = along_line(phi)
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore")  # scipy warns when it does not converge (table 5)
-        result = line_search(objective.value, objective.gradient, np.array([0.0]),
-                             np.array([1.0]), gfk=np.array([d0]), old_fval=f0, c1=c1,
-                             c2=c2 if c2 > c1 else float(np.nextafter(c2, 1.0)))
-    alpha, scipy_values = result[0], result[1]
-    if alpha is not None:
-        value, slope = phi(alpha)
-        assert value <= f0 + c1 * alpha * d0
-        assert abs(slope) <= np.nextafter(c2, 1.0) * abs(d0)
-        assert step.evaluations.values <= scipy_values + 1
+    assert_same_conditions_as_scipy(Wolfe, table)
 
 
 # -- properties --------------------------------------------------------------------------
@@ -151,7 +133,7 @@ def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pa
 def test_wolfe_conditions_on_nonconvex_functions(seed, n, scale, pair, strong):
     """Sums of sines plus a quadratic (smooth, bounded below, many local minima; invented)."""
     c1, c2 = pair
-    fun, grad, x = sines_plus_quadratic(seed, n)
+    fun, grad, x = sines_with_start(seed, n)
     g = grad(x)
     if not float(g @ g) > 1e-12:
         return
