@@ -34,6 +34,7 @@ from linestep._ray import BudgetSpent, Point, Ray
 from linestep._step import MESSAGES, Evaluations, Status, Step
 
 _NDARRAY = np.ndarray
+_CONSTANT = _initial.ConstantTrial
 _ACCEPTED = Status.accepted
 _ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
 # Evaluations records are immutable, so the common small counts are shared.
@@ -146,7 +147,10 @@ class StepController:
         """Clear controller-specific state (override when there is any)."""
 
     def _first_trial(self, ray: Ray) -> float:
-        guess = self.initial.guess(self._memory, ray)
+        initial = self.initial
+        if initial.__class__ is _CONSTANT:  # validated positive and finite when built
+            return initial.size
+        guess = initial.guess(self._memory, ray)
         if 0.0 < guess < math.inf:
             return guess
         return 1.0

@@ -26,6 +26,7 @@ from linestep._step import Trial
 # Relative spacing of float64; a step below ~EPS·‖x‖/‖d‖ no longer moves x.
 EPS = 2.220446049250313e-16
 INF = math.inf
+_NDARRAY = np.ndarray
 
 
 class BudgetSpent(Exception):
@@ -127,7 +128,9 @@ class Ray:
         x_new = self.origin.x + (direction if size == 1.0 else size * direction)
         value, gradient = objective.value_and_gradient(x_new)
         if math.isfinite(value):
-            slope = _array.dot(gradient, direction)
+            slope = (float(gradient.dot(direction))
+                     if gradient.__class__ is _NDARRAY and gradient.ndim == 1
+                     else _array.dot(gradient, direction))
             if math.isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
         self.non_finite_seen = True
