@@ -25,7 +25,13 @@ descent with a fixed step converges iff t < 2/λ_max).
 Target: at κ = 1e4, BB needs at least 10× fewer evaluations than monotone Armijo
 steepest descent (the better of its two configurations).
 
-Run: ``python benchmarks/bb_vs_armijo.py [--cap N] [--kappa 1e4 ...]``
+Part 2 repeats the comparison on the Moré–Garbow–Hillstrom (1981) set, from the
+standard starts, with steepest descent, stopping at
+‖∇f‖∞ <= 1e-5·max(1, ‖∇f(x₀)‖∞) or at `--mgh-cap` evaluations; the best fixed rate
+per problem is picked from the grid t ∈ {1, 1e-1, …, 1e-6} (the problems'
+curvatures are unknown, so the grid is absolute).
+
+Run: ``python benchmarks/bb_vs_armijo.py [--cap N] [--kappa 1e4 ...] [--mgh-cap N]``
 """
 
 from __future__ import annotations
@@ -82,7 +88,7 @@ def solve(controller, fun, grad, x0, cap: int) -> tuple[str, int, int, float]:
     return outcome, objective.values + objective.gradients, iterations, residual
 
 
-def methods(largest: float):
+def methods(largest: float = 1.0):
     grow = PreviousTrial(growth=2.0)
     named = [
         ("BB long", BarzilaiBorwein(variant="long")),
@@ -98,11 +104,64 @@ def methods(largest: float):
     return named, fixed
 
 
+MGH_TOLERANCE = 1e-5
+MGH_GRID = tuple(10.0 ** -k for k in range(7))
+
+
+def solve_mgh(controller, problem, cap: int) -> tuple[bool, int]:
+    """Steepest descent on an MGH problem; (reached, evaluations)."""
+    objective = Objective(problem.value, problem.gradient)
+    x = problem.start.copy()
+    value, gradient = objective.value(x), objective.gradient(x)
+    limit = MGH_TOLERANCE * max(1.0, float(np.max(np.abs(gradient))))
+    with np.errstate(all="ignore"):
+        while float(np.max(np.abs(gradient))) > limit:
+            if objective.values + objective.gradients >= cap or not np.isfinite(value):
+                return False, objective.values + objective.gradients
+            step = controller(objective, x, -gradient, value=value, gradient=gradient)
+            if step.size == 0.0 or not np.all(np.isfinite(step.gradient if step.gradient
+                                                            is not None else step.x)):
+                return False, objective.values + objective.gradients
+            x, value = step.x, step.value
+            gradient = step.gradient if step.gradient is not None else objective.gradient(x)
+            if not (np.isfinite(value) and np.all(np.isfinite(gradient))):
+                return False, objective.values + objective.gradients
+    return True, objective.values + objective.gradients
+
+
+def mgh_table(cap: int) -> None:
+    from linestep.bench.problems import mgh_problems
+
+    problems = mgh_problems()
+    names = [name for name, _ in methods()[0]] + ["best fixed (grid)"]
+    results: dict[str, dict[str, tuple[bool, int]]] = {name: {} for name in names}
+    for problem in problems:
+        for name, controller in methods()[0]:  # fresh controllers for every problem
+            results[name][problem.name] = solve_mgh(controller, problem, cap)
+        fixed = [solve_mgh(Fixed(size), problem, cap) for size in MGH_GRID]
+        reached = [evaluations for ok, evaluations in fixed if ok]
+        results["best fixed (grid)"][problem.name] = (
+            (True, min(reached)) if reached else (False, cap))
+    common = [p.name for p in problems if all(results[n][p.name][0] for n in names)]
+    print(f"\nMGH set ({len(problems)} problems), steepest descent, stop at "
+          f"‖g‖∞ <= {MGH_TOLERANCE:g}·max(1, ‖g0‖∞), cap {cap} evaluations")
+    print(f"  {'method':36s} {'reached':>7s} {'median evals (reached)':>23s} "
+          f"{'total on the ' + str(len(common)) + ' reached by all':>28s}")
+    for name in names:
+        rows = results[name]
+        counts = [e for ok, e in rows.values() if ok]
+        total = sum(rows[p][1] for p in common)
+        median = float(np.median(counts)) if counts else float("nan")
+        print(f"  {name:36s} {len(counts):7d} {median:23.0f} {total:28d}")
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--cap", type=int, default=300_000,
                         help="evaluation cap per run (values + gradients)")
     parser.add_argument("--kappa", type=float, nargs="*", default=[1e2, 1e4, 1e6])
+    parser.add_argument("--mgh-cap", type=int, default=20_000,
+                        help="evaluation cap per MGH run (0 skips the MGH part)")
     arguments = parser.parse_args()
     print(f"n = {N}, stop at ‖g‖∞ <= {TOLERANCE:g}·‖g0‖∞, cap {arguments.cap} evaluations")
     summary = {}
@@ -142,6 +201,8 @@ def main() -> None:
         qualifier = "" if reached else " (Armijo hit the cap: a lower bound)"
         print(f"\nκ = 1e4: best monotone Armijo / best BB = {monotone} / {bb} = "
               f"{ratio:.1f}x{qualifier}; target >= 10x: {'met' if ratio >= 10 else 'NOT met'}")
+    if arguments.mgh_cap:
+        mgh_table(arguments.mgh_cap)
 
 
 if __name__ == "__main__":

@@ -244,3 +244,20 @@ def test_descend_runs_with_every_controller(name):
     )
     assert run.converged, run.verdict
     np.testing.assert_allclose(run.x, 1.0, atol=1e-5)
+
+
+@parametrize
+def test_an_overflowing_slope_is_a_status_not_an_error(name):
+    # g and d are finite but g·d = −2e400 overflows: numeric trouble, reported as
+    # non_finite with x unchanged and nothing evaluated along the ray.
+    controller = FACTORIES[name]()
+    fun, grad = quadratic()
+    objective = counted(fun, grad)
+    x = np.array([1.0, 2.0])
+    gradient = np.array([1e200, 1e200])
+    with np.errstate(over="ignore"):  # numpy warns about the overflowing product itself
+        step = controller(objective, x, -gradient, value=fun(x), gradient=gradient)
+    assert step.status is Status.non_finite
+    assert step.x is x and step.size == 0.0
+    assert objective.evaluations.total == 0
+    assert "overflows" in step.message

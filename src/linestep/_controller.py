@@ -71,6 +71,10 @@ def _step(size: float, x: Any, value: Any, gradient: Any, evaluations: Evaluatio
     return step
 
 
+_SLOPE_OVERFLOW = (
+    "The slope gradient·direction overflows the float range; x is unchanged. The "
+    "gradient or the direction is far too large: rescale the problem or use a smaller step."
+)
 _STATIONARY = "The gradient at x is zero, so x is stationary; the step is 0."
 
 
@@ -124,7 +128,11 @@ class StepController:
         else:
             x, direction = _check_point_and_direction(x, direction)
             origin = self._origin(objective, x, direction, value, gradient)
-        if origin.slope is not None and not origin.slope < 0.0:
+        slope = origin.slope
+        if slope is not None and not -math.inf < slope < 0.0:
+            if slope == -math.inf or slope != slope:  # g·d overflowed: nothing to search
+                return self._overflowed_slope(objective, origin, start_values,
+                                              start_gradients)
             return self._no_descent(objective, origin, start_values, start_gradients)
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
@@ -209,6 +217,14 @@ class StepController:
                     message=_STATIONARY if stationary else MESSAGES[status],
                     trials=() if self.record_trials else None)
 
+    def _overflowed_slope(self, objective: Objective, origin: Point, start_values: int,
+                          start_gradients: int) -> Step:
+        evaluations = _evaluations(objective.values - start_values,
+                                   objective.gradients - start_gradients)
+        return _step(0.0, origin.x, origin.value, origin.gradient, evaluations,
+                     Status.non_finite, _SLOPE_OVERFLOW,
+                     () if self.record_trials else None)
+
     def _finish(self, ray: Ray, outcome: tuple, start_values: int,
                 start_gradients: int) -> Step:
         point, status = outcome[0], outcome[1]
@@ -275,9 +291,8 @@ def _check_slope(slope: float, gradient: Any, direction: Any, supplied: bool) ->
     if not _array.all_finite(gradient):
         where = "`gradient`" if supplied else "The objective's gradient at `x`"
         raise ValueError(f"{where} must be finite; it contains NaN or infinity.")
-    raise ValueError(
-        f"The slope gradient·direction overflowed ({slope!r}); rescale `direction`."
-    )
+    # Both finite: the product overflowed. That is numeric trouble, reported by the
+    # caller as a non_finite status, not a bad argument.
 
 
 def _check_gradient(gradient: Any, x: Any, *, supplied: bool = True) -> Any:
