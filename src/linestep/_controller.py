@@ -112,10 +112,10 @@ class StepController:
         if objective.__class__ is not Objective:
             objective = as_objective(objective)
         start_values, start_gradients = objective.values, objective.gradients
-        if (value is not None and gradient is not None and x.__class__ is _NDARRAY
-                and direction.__class__ is _NDARRAY and gradient.__class__ is _NDARRAY
-                and x.ndim == 1 and x.dtype.kind == "f" and direction.dtype.kind == "f"
-                and gradient.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
+        if (value is not None
+                and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
+                and x.ndim == 1 and x.dtype is direction.dtype is gradient.dtype
+                and x.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
             # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
             # A finite x·x, g·d and f prove x, g, d and f finite (see `_check_slope`).
             slope = float(gradient.dot(direction))

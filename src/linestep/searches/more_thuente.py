@@ -179,19 +179,19 @@ class MoreThuente(StepController):
         while True:
             point = evaluate(size)
             f = point.value
-            sufficient = f0 + size * decrease
+            bound = size * decrease  # sufficient decrease: f − f0 ≤ bound (as a difference)
             if f < INF:
                 g = point.slope
-                if f <= sufficient:
+                if f - f0 <= bound:
                     if -flat <= g <= flat:
                         return point, Status.accepted
                     if g >= 0.0:
                         auxiliary = False
                     elif size >= max_size and g <= decrease:
                         return ray.best, Status.step_too_large
-                if size <= min_size and (f > sufficient or g >= decrease):
+                if size <= min_size and (f - f0 > bound or g >= decrease):
                     return ray.best, Status.step_too_small
-                if auxiliary and sufficient < f <= lf:
+                if auxiliary and f - f0 > bound and f <= lf:
                     # ψ differs from φ by a linear function: shift values and slopes.
                     wl, wt = lf - lt * decrease, f - size * decrease
                     wu = uf - ut * decrease

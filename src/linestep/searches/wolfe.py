@@ -157,7 +157,8 @@ class Wolfe(StepController):
         while True:
             point = evaluate(size)
             value = point.value
-            if value > f0 + size * decrease or value >= previous.value:
+            # Sufficient decrease tested as a difference: rounding cannot pass it.
+            if value - f0 > size * decrease or value >= previous.value:
                 return self._zoom(ray, previous, point)
             slope = point.slope
             if slope >= -flat and (slope <= flat or not strong):
@@ -214,7 +215,7 @@ class Wolfe(StepController):
             width_older, width_old = width_old, width
             point = evaluate(size)
             value = point.value
-            if value > f0 + size * decrease or value - lo.value > tie * abs(value):
+            if value - f0 > size * decrease or value - lo.value > tie * abs(value):
                 hi = point
                 continue
             slope = point.slope
