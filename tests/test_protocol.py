@@ -261,3 +261,4 @@ def test_an_overflowing_slope_is_a_status_not_an_error(name):
     assert step.x is x and step.size == 0.0
     assert objective.evaluations.total == 0
     assert "overflows" in step.message
+

@@ -190,3 +190,41 @@ def test_sufficient_decrease_without_a_slope_is_plain_decrease():
     ray = Ray(objective, origin, D, max_evaluations=5)
     assert ray.sufficient_decrease(ray.value(0.1), 0.5)  # φ = 16 < 25
     assert not ray.sufficient_decrease(ray.value(1.0), 0.5)  # φ = 25, not below
+
+
+def _saturating():
+    """f(w) = Σ 1/(1 + w²): finite (0) at w = ±inf, so overflow in x + t·d hides in f."""
+
+    def fun(w):
+        with np.errstate(over="ignore"):
+            return float(np.sum(1.0 / (1.0 + w * w)))
+
+    def grad(w):
+        with np.errstate(over="ignore", invalid="ignore"):
+            return -2.0 * w / (1.0 + w * w) ** 2
+
+    return fun, grad
+
+
+def test_a_trial_point_that_overflows_reads_as_non_finite():
+    fun, grad = _saturating()
+    x = np.array([1.0, 2.0])
+    d = -grad(x) * 1e10
+    origin = Point(0.0, x, fun(x), grad(x), float(grad(x) @ d))
+    for method in ("value", "value_and_slope"):
+        ray = Ray(Objective(fun, grad), origin, d, 5)
+        with np.errstate(over="ignore"):
+            point = getattr(ray, method)(1e300)  # x + t·d = +inf in every entry
+        assert point.value == math.inf and not point.finite
+        assert ray.best is None
+
+
+def test_fixed_never_returns_an_overflowed_point():
+    from linestep import Fixed, Status
+
+    fun, grad = _saturating()
+    x = np.array([1.0, 2.0])
+    with np.errstate(over="ignore"):
+        step = Fixed(1e300)((fun, grad), x, -grad(x) * 1e10)
+    assert step.status is Status.non_finite
+    assert step.x is x

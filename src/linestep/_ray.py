@@ -29,6 +29,18 @@ INF = math.inf
 _NDARRAY = np.ndarray
 
 
+def _finite_point(x: Any) -> bool:
+    """True when every entry of a trial point is finite.
+
+    x + t·d can overflow for large t while f stays finite there (a logistic loss is
+    0 at +inf), so trials with t > 1 are checked; x·x is finite only if x is, and an
+    overflowing square falls back to the exact test.
+    """
+    if x.__class__ is np.ndarray and x.ndim == 1 and math.isfinite(float(x.dot(x))):
+        return True
+    return _array.all_finite(x)
+
+
 class BudgetSpent(Exception):
     """Raised by the ray when a search asks for more points than its budget allows."""
 
@@ -106,7 +118,7 @@ class Ray:
         # The unit step (Newton-like directions) needs no multiplication.
         x_new = self.origin.x + (self.direction if size == 1.0 else size * self.direction)
         value = objective.value(x_new)
-        if not math.isfinite(value):
+        if not math.isfinite(value) or (size > 1.0 and not _finite_point(x_new)):
             self.non_finite_seen = True
             value = INF
         return self._store(Point(size, x_new, value, None, None))
@@ -127,7 +139,7 @@ class Ray:
         direction = self.direction
         x_new = self.origin.x + (direction if size == 1.0 else size * direction)
         value, gradient = objective.value_and_gradient(x_new)
-        if math.isfinite(value):
+        if math.isfinite(value) and (size <= 1.0 or _finite_point(x_new)):
             slope = (float(gradient.dot(direction))
                      if gradient.__class__ is _NDARRAY and gradient.ndim == 1
                      else _array.dot(gradient, direction))
