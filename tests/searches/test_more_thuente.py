@@ -15,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from _problems import quadratic, sines_plus_quadratic
@@ -217,6 +217,9 @@ def constants():
 @settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 8), log_condition=st.floats(0, 6),
        scale=st.floats(-3, 3), pair=constants())
+# c1 = 1/2 on a quadratic whose exact minimiser is t = 1: φ(1) = φ(0) + c1·φ'(0)
+# exactly, so the sufficient-decrease test sits on its boundary.
+@example(seed=0, n=1, log_condition=0.0, scale=0.0, pair=(0.5, 0.5))
 def test_strong_wolfe_on_random_quadratics(seed, n, log_condition, scale, pair):
     """Random SPD quadratics, condition numbers up to 1e6 (invented problems)."""
     c1, c2 = pair

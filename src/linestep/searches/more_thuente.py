@@ -179,19 +179,21 @@ class MoreThuente(StepController):
         while True:
             point = evaluate(size)
             f = point.value
-            bound = size * decrease  # sufficient decrease: f − f0 ≤ bound (as a difference)
+            # Sufficient decrease in the paper's sum form (see the note in wolfe.py: the
+            # curvature test keeps a rounding-level acceptance from stalling).
+            sufficient = f0 + size * decrease
             if f < INF:
                 g = point.slope
-                if f - f0 <= bound:
+                if f <= sufficient:
                     if -flat <= g <= flat:
                         return point, Status.accepted
                     if g >= 0.0:
                         auxiliary = False
                     elif size >= max_size and g <= decrease:
                         return ray.best, Status.step_too_large
-                if size <= min_size and (f - f0 > bound or g >= decrease):
+                if size <= min_size and (f > sufficient or g >= decrease):
                     return ray.best, Status.step_too_small
-                if auxiliary and f - f0 > bound and f <= lf:
+                if auxiliary and sufficient < f <= lf:
                     # ψ differs from φ by a linear function: shift values and slopes.
                     wl, wt = lf - lt * decrease, f - size * decrease
                     wu = uf - ut * decrease

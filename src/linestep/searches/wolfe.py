@@ -157,8 +157,11 @@ class Wolfe(StepController):
         while True:
             point = evaluate(size)
             value = point.value
-            # Sufficient decrease tested as a difference: rounding cannot pass it.
-            if value - f0 > size * decrease or value >= previous.value:
+            # Sufficient decrease in the papers' sum form. Near a minimiser c1·t·φ'(0) can
+            # fall below the rounding of φ(0); the curvature test, which a point with x
+            # unchanged cannot pass, then carries the progress (Armijo, with no curvature
+            # test, uses the difference form instead).
+            if value > f0 + size * decrease or value >= previous.value:
                 return self._zoom(ray, previous, point)
             slope = point.slope
             if slope >= -flat and (slope <= flat or not strong):
@@ -215,7 +218,7 @@ class Wolfe(StepController):
             width_older, width_old = width_old, width
             point = evaluate(size)
             value = point.value
-            if value - f0 > size * decrease or value - lo.value > tie * abs(value):
+            if value > f0 + size * decrease or value - lo.value > tie * abs(value):
                 hi = point
                 continue
             slope = point.slope
