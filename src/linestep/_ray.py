@@ -84,7 +84,7 @@ class Ray:
 
     __slots__ = (
         "objective", "origin", "direction", "max_evaluations", "c1", "count", "best",
-        "trials", "non_finite_seen", "finite_seen", "_runner_up", "_last", "_rounding",
+        "trials", "non_finite", "_runner_up", "_last", "_rounding", "_precision",
     )
 
     def __init__(self, objective: Objective, origin: Point, direction: Any,
@@ -98,10 +98,10 @@ class Ray:
         self.best: Point | None = None
         self._runner_up: Point | None = None
         self.trials: list[Trial] | None = [] if record else None
-        self.non_finite_seen = False
-        self.finite_seen = False
+        self.non_finite = 0  # evaluated points read as non-finite
         self._last: Point = origin
         self._rounding: float | None = None
+        self._precision: float | None = None
 
     # -- evaluation -------------------------------------------------------------
     def value(self, size: float) -> Point:
@@ -112,14 +112,10 @@ class Ray:
         objective = self.objective
         if objective.fused:
             return self.value_and_slope(size)
-        if self.count >= self.max_evaluations:
-            raise BudgetSpent
-        self.count += 1
-        # The unit step (Newton-like directions) needs no multiplication.
-        x_new = self.origin.x + (self.direction if size == 1.0 else size * self.direction)
+        x_new = self._take(size)
         value = objective.value(x_new)
         if not math.isfinite(value) or (size > 1.0 and not _finite_point(x_new)):
-            self.non_finite_seen = True
+            self.non_finite += 1
             value = INF
         return self._store(Point(size, x_new, value, None, None))
 
@@ -133,11 +129,8 @@ class Ray:
             # The value is cached: one gradient evaluation completes the point.
             gradient = objective.gradient(last.x)
             return self._complete(last, gradient)
-        if self.count >= self.max_evaluations:
-            raise BudgetSpent
-        self.count += 1
+        x_new = self._take(size)
         direction = self.direction
-        x_new = self.origin.x + (direction if size == 1.0 else size * direction)
         value, gradient = objective.value_and_gradient(x_new)
         if math.isfinite(value) and (size <= 1.0 or _finite_point(x_new)):
             slope = (float(gradient.dot(direction))
@@ -145,7 +138,7 @@ class Ray:
                      else _array.dot(gradient, direction))
             if math.isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
-        self.non_finite_seen = True
+        self.non_finite += 1
         return self._store(Point(size, x_new, INF, gradient, None))
 
     def _complete(self, point: Point, gradient: Any) -> Point:
@@ -155,7 +148,7 @@ class Ray:
         if math.isfinite(slope):
             point.slope = slope
         else:
-            self.non_finite_seen = True
+            self.non_finite += 1  # the cached value was finite; the point no longer is
             point.value = INF
         if self.trials is not None and self.trials:
             self.trials[-1] = Trial(size=point.size, value=point.value, slope=point.slope)
@@ -164,9 +157,11 @@ class Ray:
         return point
 
     def _take(self, size: float) -> Any:
+        """Spend one evaluation of the budget and return x + size·d."""
         if self.count >= self.max_evaluations:
             raise BudgetSpent
         self.count += 1
+        # The unit step (Newton-like directions) needs no multiplication.
         return self.origin.x + (self.direction if size == 1.0 else size * self.direction)
 
     def _store(self, point: Point) -> Point:
@@ -174,19 +169,12 @@ class Ray:
         if self.trials is not None:
             self.trials.append(Trial(size=point.size, value=point.value, slope=point.slope))
         value = point.value
-        if value < INF:
-            self.finite_seen = True
-            origin = self.origin
-            slope, reference = origin.slope, origin.value
-            if reference is not None and (
-                value < reference if slope is None
-                else value - reference <= self.c1 * point.size * slope
-            ):
-                best = self.best
-                if best is None or value < best.value:
-                    # Kept in case the new best's gradient turns out non-finite.
-                    self._runner_up = best
-                    self.best = point
+        if value < INF and self.sufficient_decrease(point, self.c1):
+            best = self.best
+            if best is None or value < best.value:
+                # Kept in case the new best's gradient turns out non-finite.
+                self._runner_up = best
+                self.best = point
         return point
 
     # -- conditions shared by the searches -------------------------------------
@@ -197,18 +185,39 @@ class Ray:
         is not certified by rounding (φ(0) + tiny == φ(0)).
         """
         origin = self.origin
+        if origin.value is None:  # a rule called without f(x): nothing to compare with
+            return False
         if origin.slope is None:
             return point.value < origin.value
         return point.value - origin.value <= c1 * point.size * origin.slope
 
+    @property
+    def non_finite_seen(self) -> bool:
+        """Some evaluated point was read as non-finite."""
+        return self.non_finite > 0
+
+    @property
+    def finite_seen(self) -> bool:
+        """Some evaluated point is finite."""
+        return self.count > self.non_finite
+
+    def precision(self) -> float:
+        """Machine epsilon of x's dtype (float64's when x has none): the relative
+        rounding of x and of values computed from it."""
+        if self._precision is None:
+            dtype = getattr(self.origin.x, "dtype", None)
+            try:
+                self._precision = EPS if dtype is None else float(np.finfo(dtype).eps)
+            except (TypeError, ValueError):  # a dtype numpy cannot describe
+                self._precision = EPS
+        return self._precision
+
     def rounding_size(self) -> float:
         """The step below which x + t·d differs from x only at rounding level."""
         if self._rounding is None:
-            x = self.origin.x
-            eps = float(np.finfo(x.dtype).eps) if hasattr(x, "dtype") else EPS
-            scale = max(1.0, _array.max_abs(x))
+            scale = max(1.0, _array.max_abs(self.origin.x))
             length = _array.max_abs(self.direction)
-            self._rounding = eps * scale / length if length > 0 else INF
+            self._rounding = self.precision() * scale / length if length > 0 else INF
         return self._rounding
 
     @property
