@@ -31,12 +31,22 @@ def integer(name: str, value: Any, *, minimum: int = 1) -> int:
     return int(value)
 
 
+def within(name: str, value: Any, low: float, high: float, *, include_low: bool = False,
+           include_high: bool = False) -> float:
+    """A real number in the interval from `low` to `high`, each end open unless included."""
+    value = real(name, value)
+    above = value >= low if include_low else value > low
+    below = value <= high if include_high else value < high
+    if not (above and below):
+        left, right = ("<=" if include_low else "<"), ("<=" if include_high else "<")
+        raise ValueError(f"`{name}` must satisfy {low:g} {left} {name} {right} {high:g}; "
+                         f"got {name}={value!r}.")
+    return value
+
+
 def open_unit(name: str, value: Any) -> float:
     """A number strictly inside (0, 1)."""
-    value = real(name, value)
-    if not 0.0 < value < 1.0:
-        raise ValueError(f"`{name}` must satisfy 0 < {name} < 1; got {name}={value!r}.")
-    return value
+    return within(name, value, 0.0, 1.0)
 
 
 def positive(name: str, value: Any, *, allow_inf: bool = False) -> float:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-import numbers
 from typing import Any
 
 import numpy as np
@@ -128,7 +127,8 @@ class BarzilaiBorwein(StepController):
                  globalize: Any = _RAYDAN) -> None:
         super().__init__()
         self.variant = _validate.choice("variant", variant, _VARIANTS)
-        self.first = _first_rule(first)
+        self.first = _initial.resolve(_initial.ScaledTrial() if first is None else first,
+                                      name="first")
         self.initial = self.first
         self.min_size = _validate.positive("min_size", min_size)
         self.max_size = _validate.positive("max_size", max_size)
@@ -208,19 +208,6 @@ class BarzilaiBorwein(StepController):
 
     def _clip(self, size: float) -> float:
         return min(max(size, self.min_size), self.max_size)
-
-
-def _first_rule(first: Any) -> Any:
-    if first is None:
-        return _initial.ScaledTrial()
-    if hasattr(first, "guess"):
-        return first
-    if isinstance(first, numbers.Real) and not isinstance(first, bool):
-        return _initial.resolve(_validate.positive("first", first))
-    raise TypeError(
-        "`first` must be a positive number or a trial strategy such as ScaledTrial(); "
-        f"got {first!r}."
-    )
 
 
 def _snapshot(a: Any) -> Any:

@@ -347,10 +347,7 @@ class Schedule(StepController):
 
 # -- argument checks -------------------------------------------------------------------
 def _unit_factor(name: str, value: Any) -> float:
-    value = _validate.real(name, value)
-    if not 0.0 < value <= 1.0:
-        raise ValueError(f"`{name}` must satisfy 0 < {name} <= 1; got {name}={value!r}.")
-    return value
+    return _validate.within(name, value, 0.0, 1.0, include_high=True)
 
 
 def _final_size(final: Any, initial: float) -> float:

@@ -155,18 +155,9 @@ class HagerZhang(StepController):
         self.epsilon = _validate.nonnegative("epsilon", epsilon)
         self.theta = _validate.open_unit("theta", theta)
         self.shrink_test = _validate.open_unit("shrink_test", shrink_test)
-        self.expand = _validate.positive("expand", expand)
-        if not self.expand > 1.0:
-            raise ValueError(
-                f"`expand` must be > 1 so that the bracketing phase grows; got "
-                f"expand={self.expand!r}."
-            )
-        self.epsilon_memory = _validate.real("epsilon_memory", epsilon_memory)
-        if not 0.0 <= self.epsilon_memory <= 1.0:
-            raise ValueError(
-                f"`epsilon_memory` must satisfy 0 <= epsilon_memory <= 1; got "
-                f"epsilon_memory={self.epsilon_memory!r}."
-            )
+        self.expand = _validate.within("expand", expand, 1.0, math.inf)  # > 1: trials grow
+        self.epsilon_memory = _validate.within("epsilon_memory", epsilon_memory, 0.0, 1.0,
+                                               include_low=True, include_high=True)
         self.initial = _initial.resolve(initial)
         self.max_size = _validate.positive("max_size", max_size)
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)

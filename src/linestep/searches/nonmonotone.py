@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 from collections import deque
 from typing import Any
 
@@ -106,7 +105,7 @@ class NonmonotoneArmijo(StepController):
         super().__init__()
         self.memory = _validate.integer("memory", memory)
         self.reference = _validate.choice("reference", reference, _REFERENCES)
-        self.eta = _weight("eta", eta)
+        self.eta = _validate.within("eta", eta, 0.0, 1.0, include_low=True, include_high=True)
         # Armijo checks the shared options, so both classes accept and reject the same values.
         options = Armijo(c1=c1, shrink=shrink, interpolation=interpolation,
                          shrink_limits=shrink_limits, initial=initial,
@@ -151,8 +150,3 @@ class NonmonotoneArmijo(StepController):
         return max(average, value)
 
 
-def _weight(name: str, value: Any) -> float:
-    value = _validate.real(name, value)
-    if not (0.0 <= value <= 1.0 and math.isfinite(value)):
-        raise ValueError(f"`{name}` must satisfy 0 <= {name} <= 1; got {name}={value!r}.")
-    return value

@@ -5,8 +5,6 @@ from __future__ import annotations
 import math
 from typing import Any
 
-import numpy as np
-
 from linestep import _initial, _validate
 from linestep._controller import StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slope
@@ -137,9 +135,7 @@ class Wolfe(StepController):
             raise TypeError(f"`strong` must be True or False; got {strong!r}.")
         self.strong = strong
         self.initial = _initial.resolve(initial)
-        self.expand = _validate.real("expand", expand)
-        if not 1.0 < self.expand < INF:
-            raise ValueError(f"`expand` must be a finite number > 1; got expand={expand!r}.")
+        self.expand = _validate.within("expand", expand, 1.0, INF)  # > 1: trials grow
         self.max_size = _validate.positive("max_size", max_size)
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
@@ -201,7 +197,7 @@ class Wolfe(StepController):
         strong = self.strong
         evaluate = ray.value_and_slope
         floor = ray.rounding_size()
-        eps = _precision(origin.x)
+        eps = ray.precision()
         tie = VALUE_TIE * eps
         width_older = width_old = INF
         while True:
@@ -257,13 +253,3 @@ def _zoom_trial(a: float, fa: float, da: float, b: float, fb: float, db: float) 
         return far
     return size
 
-
-def _precision(x: Any) -> float:
-    """Machine epsilon of x's dtype (float64's when x has no dtype)."""
-    dtype = getattr(x, "dtype", None)
-    if dtype is None:
-        return 2.220446049250313e-16
-    try:
-        return float(np.finfo(dtype).eps)
-    except (TypeError, ValueError):
-        return 2.220446049250313e-16
