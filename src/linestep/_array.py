@@ -93,11 +93,12 @@ def dot(a: Any, b: Any) -> float:
 def all_finite(a: Any) -> bool:
     """True when every entry of `a` is finite."""
     if isinstance(a, np.ndarray):
-        # Summing is much cheaper than isfinite().all(); only a non-finite sum needs the
-        # exact check (a finite array can overflow its sum).
-        total = float(np.sum(a)) if a.dtype.kind == "f" else math.nan
-        if math.isfinite(total):
-            return True
+        if a.dtype.kind == "f":
+            # a·a is finite only if every entry is, and costs a fraction of
+            # isfinite().all(); an overflowing square falls back to the exact test.
+            square = float(a.dot(a)) if a.ndim == 1 else float(np.vdot(a, a))
+            if math.isfinite(square):
+                return True
         return bool(np.isfinite(a).all())
     xp = namespace(a)
     return bool(xp.all(xp.isfinite(a)))

@@ -117,7 +117,8 @@ class StepController:
                 and x.ndim == 1 and x.dtype is direction.dtype is gradient.dtype
                 and x.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
             # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
-            # A finite x·x, g·d and f prove x, g, d and f finite (see `_check_slope`).
+            # A finite x·x, g·d and f prove x, g, d and f finite (`_array.all_finite`'s
+            # test, inlined; `_check_slope`).
             slope = float(gradient.dot(direction))
             value = float(value)
             if math.isfinite(slope) and math.isfinite(value) and math.isfinite(float(x.dot(x))):
@@ -130,10 +131,7 @@ class StepController:
             origin = self._origin(objective, x, direction, value, gradient)
         slope = origin.slope
         if slope is not None and not -math.inf < slope < 0.0:
-            if slope == -math.inf or slope != slope:  # g·d overflowed: nothing to search
-                return self._overflowed_slope(objective, origin, start_values,
-                                              start_gradients)
-            return self._no_descent(objective, origin, start_values, start_gradients)
+            return self._no_search(objective, origin, start_values, start_gradients)
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
         try:
@@ -203,27 +201,22 @@ class StepController:
             value = _check_value(objective.value(x), supplied=False)
         return Point(0.0, x, value, gradient, slope)
 
-    def _no_descent(self, objective: Objective, origin: Point, start_values: int,
-                    start_gradients: int) -> Step:
-        stationary = origin.slope == 0.0 and _array.max_abs(origin.gradient) == 0.0
-        if self.negative_gradient_only and not stationary \
-                and _array.max_abs(origin.gradient) > 0.0:
+    def _no_search(self, objective: Objective, origin: Point, start_values: int,
+                   start_gradients: int) -> Step:
+        """x unchanged without evaluating along the ray: φ'(0) >= 0, or g·d overflowed."""
+        slope = origin.slope
+        if slope == -math.inf or slope != slope:
+            status, message = Status.non_finite, _SLOPE_OVERFLOW
+        elif _array.max_abs(origin.gradient) == 0.0:
+            status, message = Status.accepted, _STATIONARY
+        elif self.negative_gradient_only:
             raise _validate.not_negative_gradient(type(self).__name__)
-        status = Status.accepted if stationary else Status.not_descent
+        else:
+            status, message = Status.not_descent, MESSAGES[Status.not_descent]
         evaluations = _evaluations(objective.values - start_values,
                                    objective.gradients - start_gradients)
-        return Step(size=0.0, x=origin.x, value=origin.value, gradient=origin.gradient,
-                    evaluations=evaluations, status=status,
-                    message=_STATIONARY if stationary else MESSAGES[status],
-                    trials=() if self.record_trials else None)
-
-    def _overflowed_slope(self, objective: Objective, origin: Point, start_values: int,
-                          start_gradients: int) -> Step:
-        evaluations = _evaluations(objective.values - start_values,
-                                   objective.gradients - start_gradients)
-        return _step(0.0, origin.x, origin.value, origin.gradient, evaluations,
-                     Status.non_finite, _SLOPE_OVERFLOW,
-                     () if self.record_trials else None)
+        return _step(0.0, origin.x, origin.value, origin.gradient, evaluations, status,
+                     message, () if self.record_trials else None)
 
     def _finish(self, ray: Ray, outcome: tuple, start_values: int,
                 start_gradients: int) -> Step:
@@ -231,12 +224,7 @@ class StepController:
         objective = ray.objective
         if status is _ACCEPTED and point is not None and ray.trials is None \
                 and point.value < math.inf:
-            # Lean path for the common outcome (`_remember` inlined).
-            memory = self._memory
-            memory.size = point.size
-            origin = ray.origin
-            memory.start_value = origin.value
-            memory.slope = origin.slope
+            self._remember(ray, point, status)  # the lean path for the common outcome
             return _step(point.size, point.x, point.value, point.gradient,
                          _evaluations(objective.values - start_values,
                                       objective.gradients - start_gradients),
@@ -261,9 +249,8 @@ class StepController:
         evaluations = _evaluations(objective.values - start_values,
                                    objective.gradients - start_gradients)
         trials = tuple(ray.trials) if ray.trials is not None else None
-        return Step(size=point.size, x=point.x, value=point.value, gradient=point.gradient,
-                    evaluations=evaluations, status=status,
-                    message=message or MESSAGES[status], trials=trials)
+        return _step(point.size, point.x, point.value, point.gradient, evaluations, status,
+                     message or MESSAGES[status], trials)
 
 
 def _check_point_and_direction(x: Any, direction: Any) -> tuple[Any, Any]:
@@ -274,8 +261,7 @@ def _check_point_and_direction(x: Any, direction: Any) -> tuple[Any, Any]:
             f"`direction` must have the shape of `x`; got {tuple(direction.shape)} for "
             f"`direction` and {tuple(x.shape)} for `x`."
         )
-    # x·x is finite only if x is (an overflowing square falls back to the exact test).
-    if not math.isfinite(_array.dot(x, x)) and not _array.all_finite(x):
+    if not _array.all_finite(x):
         raise ValueError("`x` must be finite; it contains NaN or infinity.")
     return x, direction
 

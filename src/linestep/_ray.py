@@ -29,18 +29,6 @@ INF = math.inf
 _NDARRAY = np.ndarray
 
 
-def _finite_point(x: Any) -> bool:
-    """True when every entry of a trial point is finite.
-
-    x + t·d can overflow for large t while f stays finite there (a logistic loss is
-    0 at +inf), so trials with t > 1 are checked; x·x is finite only if x is, and an
-    overflowing square falls back to the exact test.
-    """
-    if x.__class__ is np.ndarray and x.ndim == 1 and math.isfinite(float(x.dot(x))):
-        return True
-    return _array.all_finite(x)
-
-
 class BudgetSpent(Exception):
     """Raised by the ray when a search asks for more points than its budget allows."""
 
@@ -114,7 +102,9 @@ class Ray:
             return self.value_and_slope(size)
         x_new = self._take(size)
         value = objective.value(x_new)
-        if not math.isfinite(value) or (size > 1.0 and not _finite_point(x_new)):
+        # x + t·d can overflow for t > 1 while f stays finite there (a logistic loss is
+        # 0 at +inf), so those trial points are checked too.
+        if not math.isfinite(value) or (size > 1.0 and not _array.all_finite(x_new)):
             self.non_finite += 1
             value = INF
         return self._store(Point(size, x_new, value, None, None))
@@ -132,7 +122,7 @@ class Ray:
         x_new = self._take(size)
         direction = self.direction
         value, gradient = objective.value_and_gradient(x_new)
-        if math.isfinite(value) and (size <= 1.0 or _finite_point(x_new)):
+        if math.isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
             slope = (float(gradient.dot(direction))
                      if gradient.__class__ is _NDARRAY and gradient.ndim == 1
                      else _array.dot(gradient, direction))
