@@ -5,7 +5,7 @@ from __future__ import annotations
 import math
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -214,8 +214,6 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
 
 def _merge(first: Step, second: Step) -> Step:
     """The retry's step, with the evaluations of both attempts."""
-    from dataclasses import replace
-
     return replace(second, evaluations=first.evaluations + second.evaluations)
 
 

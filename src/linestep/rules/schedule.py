@@ -295,13 +295,8 @@ class Schedule(StepController):
         [0.25, 0.4375, 0.625, 0.8125, 1.0, 0.5, 0.25]
         """
         steps = _validate.integer("steps", steps)
-        start = _validate.real("start", start)
-        if not 0.0 < start <= 1.0:
-            raise ValueError(
-                f"`start` is a fraction of the first size and must satisfy 0 < start <= 1; "
-                f"got start={start!r}."
-            )
-        return type(self)(_Warmup(self._sizes, steps, start))
+        # `start` is a fraction of the wrapped schedule's first size.
+        return type(self)(_Warmup(self._sizes, steps, _unit_factor("start", start)))
 
     # -- public helpers ------------------------------------------------------------
     @property
