@@ -61,7 +61,7 @@ from typing import Any
 
 import numpy as np
 
-from linestep import _validate
+from linestep import _array, _validate
 
 __all__ = [
     "AnyOf",
@@ -214,10 +214,6 @@ def _vector_norm(array: Any, order: float | int) -> float:
     # Overflow to inf is an answer here (Divergence reports it), not a warning.
     with np.errstate(over="ignore", invalid="ignore"):
         return float(np.linalg.norm(flat, order))
-
-
-def _all_finite(array: Any) -> bool:
-    return bool(np.all(np.isfinite(np.asarray(array))))
 
 
 # -------------------------------------------------------------------- base class
@@ -659,11 +655,11 @@ class Divergence(Criterion):
         value = _scalar(progress.value)
         if not math.isfinite(value):
             return Kind.failed, f"The value is {value} at iteration {k}; {_DIVERGING_FIX}"
-        if progress.gradient is not None and not _all_finite(progress.gradient):
+        if progress.gradient is not None and not _array.all_finite(np.asarray(progress.gradient)):
             return Kind.failed, (
                 f"The gradient has non-finite entries at iteration {k}; {_DIVERGING_FIX}"
             )
-        if not _all_finite(progress.x):
+        if not _array.all_finite(np.asarray(progress.x)):
             return Kind.failed, f"x has non-finite entries at iteration {k}; {_DIVERGING_FIX}"
         if abs(value) > self.bound:
             return Kind.failed, (
