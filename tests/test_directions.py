@@ -106,34 +106,6 @@ def test_default_reprs():
     )
 
 
-BAD_ARGUMENTS = [
-    (lambda: LBFGS(0), ValueError, "`memory` must be >= 1"),
-    (lambda: LBFGS(-3), ValueError, "`memory`"),
-    (lambda: LBFGS(2.5), TypeError, "`memory` must be an integer"),
-    (lambda: LBFGS(True), TypeError, "`memory`"),
-    (lambda: LBFGS(curvature_tolerance=-1e-3), ValueError, "`curvature_tolerance`"),
-    (lambda: LBFGS(curvature_tolerance=math.nan), ValueError, "`curvature_tolerance`"),
-    (lambda: LBFGS(5, 1e-3), TypeError, "positional"),
-    (lambda: LBFGS(size=3), TypeError, "size"),
-    (lambda: NonlinearCG("fr"), ValueError, "'pr+', 'hager_zhang'"),
-    (lambda: NonlinearCG(None), ValueError, "`beta` must be one of"),
-    (lambda: NonlinearCG(eta=0.0), ValueError, "`eta`"),
-    (lambda: NonlinearCG(eta="small"), TypeError, "`eta`"),
-    (lambda: NonlinearCG(restart_every=0), ValueError, "`restart_every` must be >= 1"),
-    (lambda: NonlinearCG(restart_every=2.0), TypeError, "`restart_every`"),
-    (lambda: NonlinearCG(orthogonality_restart=0.0), ValueError, "`orthogonality_restart`"),
-    (lambda: NonlinearCG(orthogonality_restart=-0.2), ValueError,
-     "`orthogonality_restart`"),
-    (lambda: NonlinearCG(restart=3), TypeError, "restart"),
-]
-
-
-@pytest.mark.parametrize(("build", "error", "fragment"), BAD_ARGUMENTS)
-def test_bad_arguments_raise_naming_the_argument(build, error, fragment):
-    with pytest.raises(error, match=fragment.replace("+", r"\+")):
-        build()
-
-
 @pytest.mark.parametrize("direction", [LBFGS(), NonlinearCG()])
 def test_call_argument_errors(direction):
     with pytest.raises(ValueError, match="`gradient` must have the shape of `x`"):

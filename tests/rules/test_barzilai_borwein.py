@@ -348,21 +348,6 @@ def test_direction_other_than_negative_gradient_raises(direction):
             BarzilaiBorwein(**options)((f, g), x, direction, value=f(x), gradient=g(x))
 
 
-@pytest.mark.parametrize(("options", "error", "match"), [
-    ({"variant": "bb1"}, ValueError, "`variant` must be one of 'long', 'short', 'alternate'"),
-    ({"min_size": 0.0}, ValueError, "`min_size`"),
-    ({"max_size": math.inf}, ValueError, "`max_size`"),
-    ({"min_size": 2.0, "max_size": 1.0}, ValueError, "`min_size` must not exceed"),
-    ({"first": -1.0}, ValueError, "`first` must be a finite positive number"),
-    ({"first": "scaled"}, TypeError, "`first` must be a positive number or a trial"),
-    ({"globalize": "raydan"}, TypeError, "`globalize` must be a line search"),
-    ({"globalize": BarzilaiBorwein()}, TypeError, "`globalize`"),
-])
-def test_bad_arguments_name_the_argument(options, error, match):
-    with pytest.raises(error, match=match):
-        BarzilaiBorwein(**options)
-
-
 def test_repr_rebuilds():
     rule = BarzilaiBorwein(variant="short", first=ScaledTrial(length=0.5))
     text = repr(rule)

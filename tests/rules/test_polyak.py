@@ -290,20 +290,6 @@ def test_direction_other_than_negative_gradient_raises(direction):
         Polyak(f_min=0.0)((square, square_gradient), x, direction)
 
 
-@pytest.mark.parametrize(("options", "error", "match"), [
-    ({"f_min": math.nan}, ValueError, "`f_min` must be finite"),
-    ({"f_min": -math.inf}, ValueError, "`f_min`"),
-    ({"f_min": "zero"}, TypeError, "`f_min`"),
-    ({"max_size": 0.0}, ValueError, "`max_size`"),
-    ({"max_size": math.inf}, ValueError, "`max_size`"),
-    ({"gap": -1.0}, ValueError, "`gap`"),
-    ({"path_bound": 0.0}, ValueError, "`path_bound`"),
-])
-def test_bad_arguments_name_the_argument(options, error, match):
-    with pytest.raises(error, match=match):
-        Polyak(**options)
-
-
 def test_repr_rebuilds():
     rule = Polyak(f_min=-1.5, max_size=3.0)
     text = repr(rule)

@@ -361,41 +361,6 @@ def test_repr_rebuilds():
     assert repr(rebuilt) == repr(controller)
 
 
-BAD_ARGUMENTS = [
-    ({"c1": 0.0}, ValueError, "`c1`"),
-    ({"c1": 1.0}, ValueError, "`c1`"),
-    ({"c1": -0.1}, ValueError, "`c1`"),
-    ({"c1": "0.1"}, TypeError, "`c1`"),
-    ({"c2": 1.0}, ValueError, "`c2`"),
-    ({"c1": 0.5, "c2": 0.1}, ValueError, "`c2`"),
-    ({"xtol": -1e-3}, ValueError, "`xtol`"),
-    ({"xtol": 1.0}, ValueError, "`xtol`"),
-    ({"min_size": -1.0}, ValueError, "`min_size`"),
-    ({"max_size": -1.0}, ValueError, "`max_size`"),
-    ({"max_size": 0.0}, ValueError, "`max_size`"),
-    ({"max_size": math.inf}, ValueError, "`max_size`"),
-    ({"min_size": 2.0, "max_size": 1.0}, ValueError, "`min_size`"),
-    ({"initial": -1.0}, ValueError, "`initial`"),
-    ({"initial": "unit"}, TypeError, "`initial`"),
-    ({"max_evaluations": 0}, ValueError, "`max_evaluations`"),
-    ({"max_evaluations": 2.5}, TypeError, "`max_evaluations`"),
-]
-
-
-@pytest.mark.parametrize(("kwargs", "error", "name"), BAD_ARGUMENTS,
-                         ids=[str(case[0]) for case in BAD_ARGUMENTS])
-def test_bad_arguments_name_the_argument(kwargs, error, name):
-    with pytest.raises(error, match=name):
-        MoreThuente(**kwargs)
-
-
-def test_unknown_and_positional_arguments_are_errors():
-    with pytest.raises(TypeError):
-        MoreThuente(ftol=1e-3)
-    with pytest.raises(TypeError):
-        MoreThuente(1e-3)
-
-
 # -- the interpolation step added for case 3 ------------------------------------------------
 def test_cubic_beyond_finds_the_minimiser_past_b():
     # p(t) = t³ − 9t has its local minimiser at √3, beyond b = 1 seen from a = 0.

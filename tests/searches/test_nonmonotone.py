@@ -278,36 +278,3 @@ def test_repr_rebuilds():
     assert text.startswith("NonmonotoneArmijo(memory=4, reference='average', eta=0.7, c1=0.2")
     rebuilt = eval(text, {"NonmonotoneArmijo": NonmonotoneArmijo})  # noqa: S307
     assert repr(rebuilt) == text
-
-
-# --------------------------------------------------------------------------- bad arguments
-
-
-@pytest.mark.parametrize(("options", "error", "match"), [
-    ({"memory": 0}, ValueError, "`memory` must be >= 1"),
-    ({"memory": -3}, ValueError, "`memory`"),
-    ({"memory": 2.5}, TypeError, "`memory` must be an integer"),
-    ({"memory": True}, TypeError, "`memory`"),
-    ({"eta": -0.1}, ValueError, r"`eta` must satisfy 0 <= eta <= 1"),
-    ({"eta": 1.5}, ValueError, "`eta`"),
-    ({"eta": math.nan}, ValueError, "`eta`"),
-    ({"eta": "0.5"}, TypeError, "`eta`"),
-    ({"reference": "mean"}, ValueError, "`reference` must be one of 'max', 'average'"),
-    ({"c1": 0.0}, ValueError, "`c1`"),
-    ({"c1": 1.0}, ValueError, "`c1`"),
-    ({"shrink": 1.0}, ValueError, "`shrink`"),
-    ({"interpolation": "spline"}, ValueError, "`interpolation`"),
-    ({"shrink_limits": (0.6, 0.5)}, ValueError, "`shrink_limits`"),
-    ({"initial": -1.0}, ValueError, "`initial`"),
-    ({"max_evaluations": 0}, ValueError, "`max_evaluations`"),
-])
-def test_bad_arguments_name_the_argument(options, error, match):
-    with pytest.raises(error, match=match):
-        NonmonotoneArmijo(**options)
-
-
-def test_options_are_keyword_only():
-    with pytest.raises(TypeError):
-        NonmonotoneArmijo(10)  # type: ignore[misc]
-    with pytest.raises(TypeError):
-        NonmonotoneArmijo(window=10)  # type: ignore[call-arg]

@@ -251,38 +251,3 @@ def test_repr_rebuilds():
                        max_size=100.0, max_evaluations=30, record_trials=True)
     rebuilt = eval(repr(controller), {"Wolfe": Wolfe})
     assert repr(rebuilt) == repr(controller)
-
-
-BAD_ARGUMENTS = [
-    ({"c1": 0.0}, ValueError, "`c1`"),
-    ({"c1": 1.0}, ValueError, "`c1`"),
-    ({"c1": -0.1}, ValueError, "`c1`"),
-    ({"c1": "0.1"}, TypeError, "`c1`"),
-    ({"c2": 1.0}, ValueError, "`c2`"),
-    ({"c2": 0.0}, ValueError, "`c2`"),
-    ({"c1": 0.5, "c2": 0.1}, ValueError, "`c2`"),
-    ({"strong": "yes"}, TypeError, "`strong`"),
-    ({"expand": 1.0}, ValueError, "`expand`"),
-    ({"expand": -2.0}, ValueError, "`expand`"),
-    ({"expand": math.inf}, ValueError, "`expand`"),
-    ({"max_size": -1.0}, ValueError, "`max_size`"),
-    ({"max_size": 0.0}, ValueError, "`max_size`"),
-    ({"initial": -1.0}, ValueError, "`initial`"),
-    ({"initial": "unit"}, TypeError, "`initial`"),
-    ({"max_evaluations": 0}, ValueError, "`max_evaluations`"),
-    ({"max_evaluations": 2.5}, TypeError, "`max_evaluations`"),
-]
-
-
-@pytest.mark.parametrize(("kwargs", "error", "name"), BAD_ARGUMENTS,
-                         ids=[str(case[0]) for case in BAD_ARGUMENTS])
-def test_bad_arguments_name_the_argument(kwargs, error, name):
-    with pytest.raises(error, match=name):
-        Wolfe(**kwargs)
-
-
-def test_unknown_and_positional_arguments_are_errors():
-    with pytest.raises(TypeError):
-        Wolfe(sigma=0.9)
-    with pytest.raises(TypeError):
-        Wolfe(1e-4)
