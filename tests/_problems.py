@@ -8,6 +8,8 @@ the whole problem.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from hypothesis import assume
 from hypothesis import strategies as st
@@ -117,3 +119,49 @@ def descent_problems(draw, kinds=("quadratic", "sines")):
     d = d * 10.0 ** draw(st.floats(-3.0, 3.0))
     assume(d @ gradient < 0)
     return f, g, x, d
+
+
+# -- one-dimensional test functions of Moré & Thuente 1994, §5 (eqs. 5.1–5.4) ----------
+# Each builder returns φ(a) -> (φ(a), φ'(a)).
+def rational(beta: float):
+    """(5.1) φ(a) = −a/(a² + β)."""
+    def phi(a: float) -> tuple[float, float]:
+        return -a / (a * a + beta), (a * a - beta) / (a * a + beta) ** 2
+    return phi
+
+
+def quintic(beta: float):
+    """(5.2) φ(a) = (a + β)⁵ − 2(a + β)⁴."""
+    def phi(a: float) -> tuple[float, float]:
+        s = a + beta
+        return s**5 - 2.0 * s**4, s**3 * (5.0 * s - 8.0)
+    return phi
+
+
+def wiggly(beta: float, l: int):  # noqa: E741 - the paper's name
+    """(5.3) a kinked-quadratic φ0 plus 2(1 − β)/(lπ)·sin(lπa/2)."""
+    def phi(a: float) -> tuple[float, float]:
+        if a <= 1.0 - beta:
+            base, slope = 1.0 - a, -1.0
+        elif a >= 1.0 + beta:
+            base, slope = a - 1.0, 1.0
+        else:
+            base, slope = (a - 1.0) ** 2 / (2.0 * beta) + beta / 2.0, (a - 1.0) / beta
+        w = l * math.pi / 2.0
+        return (base + 2.0 * (1.0 - beta) / (l * math.pi) * math.sin(w * a),
+                slope + (1.0 - beta) * math.cos(w * a))
+    return phi
+
+
+def yanai_ozawa_kaneko(beta1: float, beta2: float):
+    """(5.4) φ(a) = γ(β1)·√((1 − a)² + β2²) + γ(β2)·√(a² + β1²), γ(b) = √(1 + b²) − b."""
+    def gamma(b: float) -> float:
+        return math.sqrt(1.0 + b * b) - b
+
+    g1, g2 = gamma(beta1), gamma(beta2)
+
+    def phi(a: float) -> tuple[float, float]:
+        r1 = math.sqrt((1.0 - a) ** 2 + beta2 * beta2)
+        r2 = math.sqrt(a * a + beta1 * beta1)
+        return g1 * r1 + g2 * r2, -g1 * (1.0 - a) / r1 + g2 * a / r2
+    return phi

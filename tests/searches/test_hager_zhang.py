@@ -17,7 +17,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from _problems import quadratic
+from _problems import quadratic, quintic, rational, wiggly, yanai_ozawa_kaneko
 from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTrial
 from linestep._objective import Objective
 from linestep._step import Evaluations, Status
@@ -81,41 +81,11 @@ def random_wavy(seed, n):
 
 
 def mt_functions():
-    """The six 1-D functions of [MT94] §5 as (name, φ, φ') (constants recalled)."""
-
-    def phi1(t, beta=2.0):
-        return -t / (t * t + beta), (t * t - beta) / (t * t + beta) ** 2
-
-    def phi2(t, beta=0.004):
-        u = t + beta
-        return u**5 - 2.0 * u**4, 5.0 * u**4 - 8.0 * u**3
-
-    def phi3(t, beta=0.01, ell=39):
-        if t <= 1.0 - beta:
-            base, slope = 1.0 - t, -1.0
-        elif t >= 1.0 + beta:
-            base, slope = t - 1.0, 1.0
-        else:
-            base, slope = (t - 1.0) ** 2 / (2.0 * beta) + beta / 2.0, (t - 1.0) / beta
-        wave = ell * math.pi / 2.0
-        amplitude = 2.0 * (1.0 - beta) / (ell * math.pi)
-        return base + amplitude * math.sin(wave * t), slope + amplitude * wave * math.cos(wave * t)
-
-    def yanai(beta1, beta2):
-        def gamma(beta):
-            return math.sqrt(1.0 + beta * beta) - beta
-
-        def phi(t):
-            left = math.sqrt((1.0 - t) ** 2 + beta2**2)
-            right = math.sqrt(t * t + beta1**2)
-            value = gamma(beta1) * left + gamma(beta2) * right
-            return value, gamma(beta1) * (t - 1.0) / left + gamma(beta2) * t / right
-
-        return phi
-
-    return [("mt1", phi1), ("mt2", phi2), ("mt3", phi3),
-            ("mt4", yanai(0.001, 0.001)), ("mt5", yanai(0.01, 0.001)),
-            ("mt6", yanai(0.001, 0.01))]
+    """The six 1-D functions of [MT94] §5 with the paper's parameters (recalled)."""
+    return [("mt1", rational(2.0)), ("mt2", quintic(0.004)), ("mt3", wiggly(0.01, 39)),
+            ("mt4", yanai_ozawa_kaneko(0.001, 0.001)),
+            ("mt5", yanai_ozawa_kaneko(0.01, 0.001)),
+            ("mt6", yanai_ozawa_kaneko(0.001, 0.01))]
 
 
 def one_dimensional(phi):
