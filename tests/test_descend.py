@@ -275,17 +275,6 @@ def test_descend_reaches_the_scipy_bfgs_optimum(make_problem, controller):
     assert run.value - reference.fun <= n * 1e-12 / (2.0 * mu) + 1e-15 * abs(reference.fun)
 
 
-def test_rosenbrock_problem_matches_scipy():
-    problems = pytest.importorskip("linestep.bench.problems")
-    optimize = pytest.importorskip("scipy.optimize")
-    problem = problems.get_problem("rosenbrock")
-    rng = np.random.default_rng(3)
-    for x in rng.uniform(-2.0, 2.0, size=(20, 2)):
-        assert problem.value(x) == pytest.approx(optimize.rosen(x), rel=1e-12, abs=1e-12)
-        np.testing.assert_allclose(problem.gradient(x), optimize.rosen_der(x), rtol=1e-12,
-                                   atol=1e-10)
-
-
 def test_a_non_finite_gradient_ends_the_run_as_failed_whatever_the_stopping_rule():
     # f(x) = sqrt(|x|): a fixed step of 2 from x = 1 lands on x = 0, where f = 0 is
     # finite but the gradient sign(x)/(2 sqrt|x|) is 0/0. The stopping rule has no

@@ -187,6 +187,7 @@ def test_float32_stays_float32_and_shapes_are_kept(name):
     step = controller((fun, grad), x, -grad(x))
     assert step.x.dtype == np.float32
     assert step.x.shape == (3, 2)
+    assert step.ok and fun(step.x) < fun(x)
 
 
 @parametrize

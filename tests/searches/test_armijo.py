@@ -236,12 +236,6 @@ def test_user_exception_propagates_unchanged(where):
 # --------------------------------------------------------------------------- arrays
 
 
-def test_float32_in_float32_out():
-    x = X.astype(np.float32)
-    step = Armijo()((square, square_gradient), x, -square_gradient(x))
-    assert step.ok and step.x.dtype == np.float32
-
-
 def test_matrix_shaped_points():
     x = np.arange(6.0).reshape(3, 2) - 2.0
     step = Armijo()((square, square_gradient), x, -square_gradient(x))

@@ -200,12 +200,6 @@ def test_user_exception_propagates_unchanged():
 # --------------------------------------------------------------------------- arrays, reprs
 
 
-def test_float32_and_matrix_shapes():
-    x = np.full((3, 2), 2.0, dtype=np.float32)
-    step = Goldstein()((square, square_gradient), x, -square_gradient(x))
-    assert step.ok and step.x.dtype == np.float32 and step.x.shape == (3, 2)
-
-
 def test_record_trials_ends_with_the_accepted_trial():
     x = np.array([7.0, -3.0])
     step = Goldstein(record_trials=True, initial=1e-3)((square, square_gradient), x,

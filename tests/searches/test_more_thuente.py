@@ -302,16 +302,6 @@ def test_recorded_trials_match_the_evaluations():
     assert [trial.size for trial in step.trials][:2] == [1e-3, 5e-3]  # 1e-3 + 4·1e-3
 
 
-def test_float32_stays_float32():
-    x = np.array([3.0, -1.0], dtype=np.float32)
-    fun = lambda x: float(x @ x)  # noqa: E731
-    grad = lambda x: 2 * x  # noqa: E731
-    step = MoreThuente()((fun, grad), x, -grad(x))
-    assert step.status is Status.accepted
-    assert step.x.dtype == np.float32
-    assert step.value < fun(x)
-
-
 def test_c1_equal_c2_is_legal():
     assert MoreThuente(c1=1e-3, c2=1e-3).c2 == 1e-3
 

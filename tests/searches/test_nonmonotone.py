@@ -266,12 +266,6 @@ def test_nothing_finite_is_non_finite_with_x_unchanged():
     assert step.status is Status.non_finite and step.x is x
 
 
-def test_float32_stays_float32():
-    x = np.array([3.0, -4.0], dtype=np.float32)
-    step = NonmonotoneArmijo()((square, square_gradient), x, -square_gradient(x))
-    assert step.x.dtype == np.float32
-
-
 def test_repr_rebuilds():
     search = NonmonotoneArmijo(memory=4, reference="average", eta=0.7, c1=0.2)
     text = repr(search)

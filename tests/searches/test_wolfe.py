@@ -232,16 +232,6 @@ def test_expand_limits_the_bracketing_growth():
     assert step.status is Status.accepted
 
 
-def test_float32_stays_float32():
-    x = np.array([3.0, -1.0], dtype=np.float32)
-    fun = lambda x: float(x @ x)  # noqa: E731
-    grad = lambda x: 2 * x  # noqa: E731
-    step = Wolfe()((fun, grad), x, -grad(x))
-    assert step.status is Status.accepted
-    assert step.x.dtype == np.float32
-    assert step.value < fun(x)
-
-
 def test_c1_equal_c2_is_legal():
     assert Wolfe(c1=0.3, c2=0.3).c2 == 0.3
 
