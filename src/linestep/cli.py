@@ -7,14 +7,26 @@ library itself composes built objects.
 from __future__ import annotations
 
 import argparse
-import importlib
-import importlib.util
+import html
 import os
 import sys
 import time
 from collections.abc import Callable, Sequence
+from functools import partial
 from pathlib import Path
 from typing import Any, TextIO
+
+from linestep import directions, stopping
+from linestep.rules.barzilai_borwein import BarzilaiBorwein
+from linestep.rules.fallback import Fallback
+from linestep.rules.fixed import Fixed
+from linestep.rules.polyak import Polyak
+from linestep.searches.armijo import Armijo
+from linestep.searches.goldstein import Goldstein
+from linestep.searches.hager_zhang import HagerZhang
+from linestep.searches.more_thuente import MoreThuente
+from linestep.searches.nonmonotone import NonmonotoneArmijo
+from linestep.searches.wolfe import Wolfe
 
 EXAMPLES = """examples:
   linestep demo                 compare step controllers on an invented fit
@@ -41,8 +53,8 @@ controllers (--controllers, comma-separated):
   known f*; problems without one are skipped), polyak-adaptive,
   fixed:SIZE (e.g. fixed:0.01), fallback:SIZE (the fixed step, backtracking
   with Armijo when f rises).
-  Default: every family installed among armijo, goldstein, wolfe, more-thuente,
-  hager-zhang, nonmonotone, bb, polyak.
+  Default: armijo, goldstein, wolfe, more-thuente, hager-zhang, nonmonotone, bb,
+  polyak.
 directions (--directions): steepest, lbfgs, lbfgs:MEMORY, cg (Hager-Zhang beta),
   cg-pr (Polak-Ribiere+). Default: steepest,lbfgs. bb and polyak are defined for
   the steepest-descent direction only and are paired with it alone.
@@ -57,38 +69,48 @@ your objective (--objective module:function or path/to/file.py:function): the
   first. See docs/bench/your_objective.md.
 """
 
-# name -> (module, class, keyword arguments): the CLI's vocabulary of controllers.
-CONTROLLERS: dict[str, tuple[str, str, dict[str, Any]]] = {
-    "armijo": ("linestep.searches.armijo", "Armijo", {}),
-    "goldstein": ("linestep.searches.goldstein", "Goldstein", {}),
-    "wolfe": ("linestep.searches.wolfe", "Wolfe", {}),
-    "weak-wolfe": ("linestep.searches.wolfe", "Wolfe", {"strong": False}),
-    "more-thuente": ("linestep.searches.more_thuente", "MoreThuente", {}),
-    "hager-zhang": ("linestep.searches.hager_zhang", "HagerZhang", {}),
-    "nonmonotone": ("linestep.searches.nonmonotone", "NonmonotoneArmijo", {}),
-    "nonmonotone-average": ("linestep.searches.nonmonotone", "NonmonotoneArmijo",
-                            {"reference": "average"}),
-    "bb": ("linestep.rules.barzilai_borwein", "BarzilaiBorwein", {}),
-    "bb-long": ("linestep.rules.barzilai_borwein", "BarzilaiBorwein", {"variant": "long"}),
-    "bb-short": ("linestep.rules.barzilai_borwein", "BarzilaiBorwein", {"variant": "short"}),
-    "polyak": ("linestep.rules.polyak", "Polyak", {}),  # with f* per problem, see below
-    "polyak-adaptive": ("linestep.rules.polyak", "Polyak", {}),
+
+
+def _polyak_at_optimum() -> Any:
+    from linestep.bench.harness import polyak_at_optimum  # the harness loads on demand
+
+    return polyak_at_optimum()
+
+
+# name -> factory: the CLI's vocabulary of controllers.
+CONTROLLERS: dict[str, Callable[[], Any]] = {
+    "armijo": Armijo,
+    "goldstein": Goldstein,
+    "wolfe": Wolfe,
+    "weak-wolfe": partial(Wolfe, strong=False),
+    "more-thuente": MoreThuente,
+    "hager-zhang": HagerZhang,
+    "nonmonotone": NonmonotoneArmijo,
+    "nonmonotone-average": partial(NonmonotoneArmijo, reference="average"),
+    "bb": BarzilaiBorwein,
+    "bb-long": partial(BarzilaiBorwein, variant="long"),
+    "bb-short": partial(BarzilaiBorwein, variant="short"),
+    "polyak": _polyak_at_optimum,  # Polyak with each problem's known f*
+    "polyak-adaptive": Polyak,
 }
-# Names that take a number after a colon.
-SIZED_CONTROLLERS = ("fixed", "fallback")
+# Names that take a step size after a colon: the fixed step, or it with Armijo as fallback.
+SIZED_CONTROLLERS: dict[str, Callable[[float], Any]] = {
+    "fixed": Fixed,
+    "fallback": lambda size: Fallback(Fixed(size), Armijo()),
+}
 DEFAULT_CONTROLLERS = ("armijo", "goldstein", "wolfe", "more-thuente", "hager-zhang",
                        "nonmonotone", "bb", "polyak")
-DIRECTIONS: dict[str, tuple[str, dict[str, Any]]] = {
-    "steepest": ("SteepestDescent", {}),
-    "lbfgs": ("LBFGS", {}),
-    "cg": ("NonlinearCG", {}),
-    "cg-pr": ("NonlinearCG", {"beta": "pr+"}),
+DIRECTIONS: dict[str, Callable[[], Any]] = {
+    "steepest": directions.SteepestDescent,
+    "lbfgs": directions.LBFGS,
+    "cg": directions.NonlinearCG,
+    "cg-pr": partial(directions.NonlinearCG, beta="pr+"),
 }
 DEFAULT_DIRECTIONS = "steepest,lbfgs"
 DEFAULT_OUT = "linestep-results"
 # The command line's iteration budget: the default study must stay short.
 DEFAULT_MAX_ITERATIONS = 2000
-DEFAULT_GRADIENT_TOL = 1e-6
+DEFAULT_GRADIENT_TOL = stopping.DEFAULT_GRADIENT_ATOL
 
 
 class UsageError(Exception):
@@ -189,10 +211,8 @@ def _positive_float(text: str) -> float:
 
 
 def available_controllers() -> list[str]:
-    """Controller names whose module is installed (families still being added are skipped)."""
-    return [name for name, (module, _, _) in CONTROLLERS.items()
-            if importlib.util.find_spec(module) is not None] + [
-        f"{name}:SIZE" for name in SIZED_CONTROLLERS]
+    """Every controller name the command line accepts."""
+    return [*CONTROLLERS, *(f"{name}:SIZE" for name in SIZED_CONTROLLERS)]
 
 
 def _split(text: str) -> list[str]:
@@ -201,8 +221,6 @@ def _split(text: str) -> list[str]:
 
 def build_controller(name: str) -> Any:
     """The controller (or per-problem entry) for a command-line name."""
-    from linestep.bench.harness import polyak_at_optimum
-
     base, _, argument = name.partition(":")
     if base in SIZED_CONTROLLERS:
         try:
@@ -211,33 +229,16 @@ def build_controller(name: str) -> Any:
             raise UsageError(
                 f"{name!r}: give the step size after the colon, e.g. {base}:0.01."
             ) from None
-        from linestep.rules.fixed import Fixed
-
-        if base == "fixed":
-            return Fixed(size)
-        from linestep.rules.fallback import Fallback
-        from linestep.searches.armijo import Armijo
-
-        return Fallback(Fixed(size), Armijo())
-    if name not in CONTROLLERS or argument:
+        return SIZED_CONTROLLERS[base](size)
+    if name not in CONTROLLERS:
         raise UsageError(
             f"Unknown controller {name!r}. Valid names: {', '.join(available_controllers())}."
         )
-    module, cls, keywords = CONTROLLERS[name]
-    if importlib.util.find_spec(module) is None:
-        raise UsageError(
-            f"Controller {name!r} is not available in this installation. Valid names: "
-            f"{', '.join(available_controllers())}."
-        )
-    if name == "polyak":
-        return polyak_at_optimum()
-    return getattr(importlib.import_module(module), cls)(**keywords)
+    return CONTROLLERS[name]()
 
 
 def build_direction(name: str) -> Any:
     """The direction object for a command-line name."""
-    from linestep import directions
-
     base, _, argument = name.partition(":")
     if base == "lbfgs" and argument:
         try:
@@ -248,8 +249,7 @@ def build_direction(name: str) -> Any:
         raise UsageError(
             f"Unknown direction {name!r}. Valid names: {', '.join(DIRECTIONS)}, lbfgs:MEMORY."
         )
-    cls, keywords = DIRECTIONS[name]
-    return getattr(directions, cls)(**keywords)
+    return DIRECTIONS[name]()
 
 
 def build_start(name: str) -> Any:
@@ -301,12 +301,9 @@ def _problems(args: argparse.Namespace, say: Callable[[str], None]) -> list[Any]
 
 def build_study(args: argparse.Namespace, say: Callable[[str], None]) -> Any:
     """The `Study` described by the `bench` arguments."""
-    from linestep import stopping
     from linestep.bench.harness import Study
 
-    names = _split(args.controllers) if args.controllers else [
-        name for name in DEFAULT_CONTROLLERS
-        if importlib.util.find_spec(CONTROLLERS[name][0]) is not None]
+    names = _split(args.controllers) if args.controllers else DEFAULT_CONTROLLERS
     if not names:
         raise UsageError("--controllers is empty.")
     controllers = [build_controller(name) for name in names]
@@ -329,11 +326,10 @@ class ProgressBar:
 
     WIDTH = 30
 
-    def __init__(self, total: int, *, already: int = 0, stream: TextIO | None = None) -> None:
+    def __init__(self, total: int, *, stream: TextIO | None = None) -> None:
         self.total = total
         self.stream = stream if stream is not None else sys.stderr
         self.started = time.perf_counter()
-        self.already = already
         self.interactive = bool(getattr(self.stream, "isatty", lambda: False)())
         self.last_tenth = -1
 
@@ -359,7 +355,7 @@ class ProgressBar:
 def _bench(args: argparse.Namespace) -> int:
     from linestep.bench import storage
     from linestep.bench.harness import Results, run_study
-    from linestep.bench.report import format_ranking, ranking, write_report
+    from linestep.bench.report import format_ranking, ranking, write_html
 
     def say(text: str) -> None:
         if not args.quiet:
@@ -396,12 +392,12 @@ def _bench(args: argparse.Namespace) -> int:
         say(f"note: {results_file} also holds {len(all_results) - len(results)} runs of other "
             "studies; the report covers them all.")
     try:
-        written = write_report(results_file, out)
+        report = write_html(all_results, out / "report.html", source=str(results_file))
     except ImportError:
         say("note: matplotlib is not installed; the report has tables only "
             '(pip install "linestep[bench]").')
-        written = {"html": _tables_only_report(all_results, out)}
-    print(f"Report: {written['html']}")
+        report = _tables_only_report(all_results, out)
+    print(f"Report: {report}")
     return 0
 
 
@@ -409,8 +405,6 @@ def _tables_only_report(results: Any, out: Path) -> Path:
     from linestep.bench.report import format_ranking, ranking
 
     path = out / "report.html"
-    import html
-
     path.write_text("<!DOCTYPE html><html><head><meta charset='utf-8'><title>linestep "
                     "benchmark report</title></head><body><pre>"
                     + html.escape(format_ranking(ranking(results)))
@@ -422,12 +416,13 @@ def _report(args: argparse.Namespace) -> int:
     from linestep.bench.harness import Results
     from linestep.bench.report import format_ranking, ranking, write_report
 
-    results = Results.load(args.folder)
+    folder = Path(args.folder)
+    results = Results.load(folder)
     print(format_ranking(ranking(results)))
     if args.html or args.csv or args.json or args.figures:
-        written = write_report(results, Path(args.folder) if Path(args.folder).is_dir()
-                               else Path(args.folder).parent, html=args.html, csv=args.csv,
-                               json=args.json, figures=args.figures)
+        written = write_report(results, folder if folder.is_dir() else folder.parent,
+                               html=args.html, csv=args.csv, json=args.json,
+                               figures=args.figures)
         for kind, path in written.items():
             print(f"{kind}: {path}")
     return 0

@@ -45,6 +45,22 @@ def test_dask_matches_the_process_pool(cluster, tmp_path: Path) -> None:
     assert sorted(_outcome(Results.load(tmp_path))) == sorted(_outcome(pooled))
 
 
+def test_a_client_sets_the_runs_in_flight_by_its_threads(cluster, monkeypatch) -> None:
+    # One worker with two threads: IN_FLIGHT_PER_WORKER runs per thread, whether the
+    # cluster is given by address or as a client (not this machine's CPU count).
+    from linestep.bench import harness
+
+    monkeypatch.setattr(harness.os, "cpu_count", lambda: 64)  # unlike the cluster
+    limits = []
+    drain = harness._drain
+    monkeypatch.setattr(harness, "_drain",
+                        lambda *args: limits.append(args[-1]) or drain(*args))
+    with distributed.Client(cluster) as client:
+        run_study(_study(), scheduler=client)
+    run_study(_study(), scheduler=cluster.scheduler_address)
+    assert limits == [2 * harness.IN_FLIGHT_PER_WORKER] * 2
+
+
 def test_a_scheduler_address_works_like_a_client(cluster) -> None:
     by_address = run_study(_study(), scheduler=cluster.scheduler_address)
     assert _outcome(by_address) == _outcome(run_study(_study(), workers=1))

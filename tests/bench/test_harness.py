@@ -5,10 +5,11 @@ from __future__ import annotations
 
 import json
 import math
+import multiprocessing
 import os
 import sqlite3
 import textwrap
-from concurrent.futures import ThreadPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from pathlib import Path
 
 import numpy as np
@@ -47,6 +48,10 @@ def _bowl_gradient(x: np.ndarray) -> np.ndarray:
 
 def _raising_value(x: np.ndarray) -> float:
     raise RuntimeError("the simulator crashed at this parameter set")
+
+
+def _raised_bowl_value(x: np.ndarray) -> float:
+    return float(x @ x) + 0.5
 
 
 def _nan_value(x: np.ndarray) -> float:
@@ -115,20 +120,20 @@ def test_gradient_only_rules_are_not_paired_with_other_directions() -> None:
     study = Study(problems=[get_problem("beale")], controllers=[BarzilaiBorwein(), Armijo()],
                   directions=[SteepestDescent(), LBFGS()])
     assert len(study) == 3
-    assert len(dataclass_replace_exclude(study)) == 4
-
-
-def dataclass_replace_exclude(study: Study) -> Study:
-    return Study(problems=study.problems, controllers=[c for _, c in study.controllers],
-                 directions=[d for _, d in study.directions], exclude=None)
+    every_pair = Study(problems=study.problems, controllers=[BarzilaiBorwein(), Armijo()],
+                       directions=[SteepestDescent(), LBFGS()], exclude=None)
+    assert len(every_pair) == 4
 
 
 @pytest.mark.parametrize("arguments, match", [
     ({"problems": []}, "problems"),
     ({"controllers": []}, "controllers"),
     ({"seeds": []}, "seeds"),
+    ({"seeds": [-1]}, "`seeds` must be >= 0"),  # numpy's generators take seeds >= 0
+    ({"seeds": [1.5]}, "`seeds` must be an integer"),  # never truncated to another seed
     ({"starts": ["standard"]}, "starts"),
     ({"solve_rtol": 2.0}, "solve_rtol"),
+    ({"solve_rtol": "0.1"}, "solve_rtol"),
     ({"problems": [get_problem("beale"), get_problem("beale")]}, "same name"),
     ({"starts": [Start.drawn()]}, "start function"),
 ])
@@ -191,6 +196,17 @@ def test_scaled_starts_follow_mgh() -> None:
     rosenbrock = get_problem("rosenbrock")
     np.testing.assert_array_equal(Start.scaled(100).point(rosenbrock, None), [-120.0, 100.0])
     assert Start.scaled(100).label == "x100" and not Start.scaled(100).random
+
+
+@pytest.mark.parametrize("make, match", [
+    (lambda: Start.scaled(0), "`factor` must be non-zero"),
+    (lambda: Start.scaled(math.inf), "`factor` must be finite"),
+    (lambda: Start.perturbed(0.0), "`noise` must be a finite positive number"),
+    (lambda: Start.perturbed(math.nan), "`noise` must be a finite positive number"),
+])
+def test_bad_starts_are_rejected(make, match: str) -> None:
+    with pytest.raises(ValueError, match=match):
+        make()
 
 
 def test_perturbed_starts_are_seeded_per_problem() -> None:
@@ -337,6 +353,49 @@ def test_any_executor_gives_the_same_results() -> None:
     assert _summary(threaded) == _summary(run_study(_study(), workers=1))
 
 
+@pytest.mark.parametrize("workers", [0, -2, 1.5])
+def test_a_bad_worker_count_is_rejected(workers) -> None:
+    # workers=0 once fell through to "all CPUs" without a word
+    with pytest.raises((ValueError, TypeError), match="`workers` must"):
+        run_study(_study(), workers=workers)
+
+
+def test_the_optimum_is_recorded_exactly_however_far_the_run_ends() -> None:
+    # f = ‖x‖² + 1/2, f* = 1/2. One fixed step of 1e9 ends near f = 1e20, where
+    # f − f* rounds to f: the optimum must still be f* itself, not f − (f − f*) = 0.
+    [problem] = as_problems({"name": "raised_bowl", "value": _raised_bowl_value,
+                             "gradient": _bowl_gradient, "start": [3.0, -4.0],
+                             "optimal_value": 0.5})
+    [record] = run_study(Study(problems=[problem], controllers=[Fixed(1e9)],
+                               stop=stopping.MaxIterations(1)), workers=1)
+    assert record.value > 1e19
+    assert record.optimum == 0.5 and record.gap == record.value - 0.5
+    assert record.solved is False
+
+
+def test_file_path_objectives_reach_spawned_worker_processes(tmp_path: Path) -> None:
+    # A module loaded from a file path is registered under a private name that a
+    # fresh ("spawn", the default on macOS and Windows) process cannot import, so the
+    # problem travels as its spec and each worker loads the file itself.
+    path = tmp_path / "spawned_bowl.py"
+    path.write_text(textwrap.dedent("""
+        def value(x):
+            return float(x @ x)
+
+        def gradient(x):
+            return 2 * x
+
+        def make():
+            return {"value": value, "gradient": gradient, "start": [1.0, -2.0],
+                    "optimal_value": 0.0}
+    """))
+    study = Study(problems=[f"{path}:make"], controllers=[Armijo()], stop=SHORT)
+    context = multiprocessing.get_context("spawn")
+    with ProcessPoolExecutor(max_workers=1, mp_context=context) as pool:
+        [record] = run_study(study, executor=pool)
+    assert record.kind == "converged" and record.solved, record.reason
+
+
 def test_unknown_optima_are_judged_against_the_best_run() -> None:
     [problem] = as_problems({"name": "no_optimum", "value": _bowl_value,
                              "gradient": _bowl_gradient, "start": [3.0, -4.0]})
@@ -422,6 +481,18 @@ def test_suites() -> None:
     assert [p.name for p in quadratics] == [f"quadratic_cond_1e{k}" for k in range(1, 7)]
     with pytest.raises(ValueError, match="Unknown suite 'nope'"):
         suite("nope")
+
+
+@pytest.mark.parametrize("arguments, error, match", [
+    ({"condition": 0.5}, ValueError, "`condition` must be >= 1"),
+    ({"condition": math.inf}, ValueError, "`condition` must be a finite positive number"),
+    ({"condition": 10.0, "dimension": 1}, ValueError, "`dimension` must be >= 2"),
+    ({"condition": 10.0, "dimension": 5.0}, TypeError, "`dimension` must be an integer"),
+    ({"condition": 10.0, "seed": -1}, ValueError, "`seed` must be >= 0"),
+])
+def test_bad_quadratics_are_rejected(arguments: dict, error: type, match: str) -> None:
+    with pytest.raises(error, match=match):
+        quadratic_problem(**arguments)
 
 
 @pytest.mark.parametrize("condition", [1e1, 1e4])

@@ -142,3 +142,11 @@ def test_empty_problem_sets_give_zero_profiles() -> None:
     np.testing.assert_array_equal(performance_profile(empty, [1.0]), [[0.0, 0.0]])
     np.testing.assert_array_equal(robustness_score(empty), [0.0, 0.0])
     np.testing.assert_array_equal(data_profile(empty, [], [1.0]), [[0.0, 0.0]])
+
+
+@pytest.mark.parametrize("shape", [(0, 0), (3, 0)])
+def test_no_solvers_give_empty_profiles(shape: tuple[int, int]) -> None:
+    costs = np.zeros(shape)
+    assert performance_ratios(costs).shape == shape
+    assert performance_profile(costs, [1.0, 2.0]).shape == (2, 0)
+    assert robustness_score(costs).shape == (0,)

@@ -45,6 +45,11 @@ def test_a_key_is_stored_once(tmp_path: Path) -> None:
         assert store.write(_row("b"))
         assert len(store) == 2 and store.keys() == {"a", "b"}
         assert [row["value"] for row in store.rows()] == [0.5, 0.5]
+        assert store.write(_row("c"))
+    # `sequence` numbers the rows in write order; the ignored write took no number
+    with sqlite3.connect(tmp_path / "r.sqlite") as connection:
+        order = connection.execute("SELECT key, sequence FROM runs ORDER BY sequence").fetchall()
+    assert order == [("a", 1), ("b", 2), ("c", 3)]
 
 
 def test_each_write_is_committed_at_once(tmp_path: Path) -> None:
@@ -71,27 +76,25 @@ def test_a_missing_column_is_an_error(tmp_path: Path) -> None:
         store.write(row)
 
 
-def _unchanged(path: Path, before: bytes) -> None:
+def _refused_and_unchanged(path: Path, match: str, *, read_only: bool = False) -> None:
+    """Opening `path` raises ResultsFileError matching `match` and leaves the file as it was."""
+    before = path.read_bytes()
+    with pytest.raises(ResultsFileError, match=match):
+        ResultStore(path, read_only=read_only)
     assert path.read_bytes() == before
 
 
 def test_a_file_that_is_not_a_database_is_refused_and_left_alone(tmp_path: Path) -> None:
     path = tmp_path / "results.sqlite"
     path.write_text("these are my notes, not a database\n" * 20)
-    before = path.read_bytes()
-    with pytest.raises(ResultsFileError, match="not a linestep results file"):
-        ResultStore(path)
-    _unchanged(path, before)
+    _refused_and_unchanged(path, "not a linestep results file")
 
 
 def test_a_foreign_database_is_refused_and_left_alone(tmp_path: Path) -> None:
     path = tmp_path / "results.sqlite"
     with sqlite3.connect(path) as connection:
         connection.execute("CREATE TABLE measurements (t REAL)")
-    before = path.read_bytes()
-    with pytest.raises(ResultsFileError, match="did not write"):
-        ResultStore(path)
-    _unchanged(path, before)
+    _refused_and_unchanged(path, "did not write")
 
 
 def test_another_schema_version_is_refused_with_both_versions_named(tmp_path: Path) -> None:
@@ -100,12 +103,8 @@ def test_another_schema_version_is_refused_with_both_versions_named(tmp_path: Pa
         store.write(_row())
     with sqlite3.connect(path) as connection:
         connection.execute("UPDATE metadata SET value = '99' WHERE name = 'schema_version'")
-    before = path.read_bytes()
-    with pytest.raises(ResultsFileError, match=r"schema version 99.*version 1"):
-        ResultStore(path)
-    with pytest.raises(ResultsFileError, match="schema version 99"):
-        ResultStore(path, read_only=True)
-    _unchanged(path, before)
+    _refused_and_unchanged(path, r"schema version 99.*version 1")
+    _refused_and_unchanged(path, "schema version 99", read_only=True)
 
 
 def test_read_only_opening(tmp_path: Path) -> None:

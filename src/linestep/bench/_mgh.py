@@ -559,30 +559,27 @@ def broyden_tridiagonal(x):
 _BAND_OFFSETS = (*range(-BROYDEN_BAND_LOWER, 0), *range(1, BROYDEN_BAND_UPPER + 1))
 
 
+def _band_sum(values, *, transpose=False):
+    """sum_{j in J_i} values_j for each i; with `transpose`, sum_{i : j in J_i} values_i."""
+    n = values.size
+    total = np.zeros(n)
+    for k in _BAND_OFFSETS:  # six fixed offsets, each a vectorised shift
+        shift = -k if transpose else k
+        if abs(shift) >= n:
+            continue
+        if shift > 0:
+            total[: n - shift] += values[shift:]
+        else:
+            total[-shift:] += values[: n + shift]
+    return total
+
+
 def broyden_banded(x):
     """Problem 31, n variable, m = n."""
-    n = x.size
-    neighbour = x * (1.0 + x)
-    band = np.zeros(n)
-    for k in _BAND_OFFSETS:  # six fixed offsets, each a vectorised shift
-        if abs(k) >= n:
-            continue
-        if k > 0:
-            band[: n - k] += neighbour[k:]
-        else:
-            band[-k:] += neighbour[: n + k]
-    residual = x * (2.0 + 5.0 * x * x) + 1.0 - band
+    residual = x * (2.0 + 5.0 * x * x) + 1.0 - _band_sum(x * (1.0 + x))
 
     def vjp(w):
-        spread = np.zeros(n)
-        for k in _BAND_OFFSETS:
-            if abs(k) >= n:
-                continue
-            if k > 0:
-                spread[k:] += w[: n - k]
-            else:
-                spread[: n + k] += w[-k:]
-        return w * (2.0 + 15.0 * x * x) - (1.0 + 2.0 * x) * spread
+        return w * (2.0 + 15.0 * x * x) - (1.0 + 2.0 * x) * _band_sum(w, transpose=True)
 
     return residual, vjp
 

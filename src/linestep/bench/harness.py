@@ -42,7 +42,6 @@ import inspect
 import math
 import os
 import pickle
-import sys
 import time
 import traceback
 import types
@@ -57,11 +56,11 @@ from typing import Any
 
 import numpy as np
 
-from linestep import stopping
+from linestep import _validate, stopping
 from linestep._descend import History, descend
 from linestep.bench import storage
-from linestep.bench.problems import Problem
-from linestep.bench.user import UserProblem, as_problems, resolve_source
+from linestep.bench.problems import SOLVE_RTOL, Problem, close_to_optimum, optimum_below
+from linestep.bench.user import UserProblem, as_problems, from_file, resolve_source
 from linestep.directions import SteepestDescent
 
 __all__ = [
@@ -75,8 +74,6 @@ __all__ = [
     "run_study",
 ]
 
-# Relative tolerance of the "solved" test: |f − f*| <= SOLVE_RTOL · max(1, |f*|).
-SOLVE_RTOL = 1e-4
 # Final points with more entries than this are not stored (they would bloat the file).
 STORED_POINT_LIMIT = 10_000
 # Tracebacks longer than this are cut (keeping the end, where the error is).
@@ -124,17 +121,15 @@ class Start:
     @classmethod
     def scaled(cls, factor: float) -> Start:
         """factor · x_s (MGH use factors 10 and 100)."""
-        factor = float(factor)
-        if not (math.isfinite(factor) and factor != 0):
-            raise ValueError(f"`factor` must be finite and non-zero; got {factor!r}.")
+        factor = _validate.finite_scalar("factor", factor)
+        if factor == 0:
+            raise ValueError("`factor` must be non-zero; got factor=0.0.")
         return cls(f"x{factor:g}", scale=factor)
 
     @classmethod
     def perturbed(cls, noise: float) -> Start:
         """x_s plus seeded Gaussian noise of relative size `noise`."""
-        noise = float(noise)
-        if not (math.isfinite(noise) and noise > 0):
-            raise ValueError(f"`noise` must be finite and > 0; got {noise!r}.")
+        noise = _validate.positive("noise", noise)
         return cls(f"perturbed({noise:g})", noise=noise)
 
     @classmethod
@@ -199,17 +194,12 @@ def polyak_at_optimum() -> PerProblem:
 
 
 def incompatible(controller: Any, direction: Any) -> bool:
-    """True for rules defined for the negative gradient only (Barzilai–Borwein, Polyak)
-    paired with another direction: such runs could only raise. `Study`'s default `exclude`.
+    """True for rules defined for the negative gradient only (``negative_gradient_only``:
+    Barzilai–Borwein, Polyak) paired with another direction: such runs could only raise.
+    `Study`'s default `exclude`.
     """
-    if isinstance(direction, SteepestDescent):
-        return False
-    for module, name in (("linestep.rules.barzilai_borwein", "BarzilaiBorwein"),
-                         ("linestep.rules.polyak", "Polyak")):
-        cls = getattr(sys.modules.get(module), name, None)
-        if cls is not None and isinstance(controller, cls):
-            return True
-    return False
+    return (getattr(controller, "negative_gradient_only", False)
+            and not isinstance(direction, SteepestDescent))
 
 
 # --- the study ----------------------------------------------------------------------------
@@ -309,8 +299,8 @@ class Study:
     controllers : sequence or mapping
         Built controllers (deep-copied for every run), classes or factories
         (called for every run), or `PerProblem` entries. A mapping gives each a
-        label; otherwise the label is ``Name()`` for a default-constructed
-        controller and its repr otherwise.
+        label; otherwise the label is the constructor call with only the
+        arguments that differ from their defaults (``Wolfe(strong=False)``).
     directions : sequence or mapping
         Direction objects or factories, labelled the same way. Default:
         steepest descent.
@@ -367,20 +357,18 @@ class Study:
         if not starts or not all(isinstance(s, Start) for s in starts):
             raise TypeError(f"`starts` must be a non-empty sequence of Start; got {starts!r}.")
         object.__setattr__(self, "starts", starts)
-        seeds = tuple(int(s) for s in self.seeds)
+        seeds = tuple(_validate.integer("seeds", s, minimum=0) for s in self.seeds)
         if not seeds:
             raise ValueError("`seeds` must not be empty.")
         object.__setattr__(self, "seeds", seeds)
-        if not (0 < self.solve_rtol < 1):
-            raise ValueError(f"`solve_rtol` must lie in (0, 1); got {self.solve_rtol!r}.")
-        for start in starts:
-            if start.drawn_from_problem:
-                lacking = [p.name for p in problems if getattr(p, "start_function", None) is None]
-                if lacking:
-                    raise ValueError(
-                        f"Start.drawn() needs a start function on every problem; "
-                        f"{lacking} have none."
-                    )
+        object.__setattr__(self, "solve_rtol", _validate.open_unit("solve_rtol", self.solve_rtol))
+        if any(start.drawn_from_problem for start in starts):
+            lacking = [p.name for p in problems if getattr(p, "start_function", None) is None]
+            if lacking:
+                raise ValueError(
+                    f"Start.drawn() needs a start function on every problem; "
+                    f"{lacking} have none."
+                )
 
     def tasks(self) -> list[_Task]:
         """Every run of the study, each with fresh controller, direction and stop."""
@@ -518,9 +506,10 @@ class RunRecord:
     def to_row(self, *, history: bool = True) -> dict[str, Any]:
         """A plain dict: numbers, strings, lists (the storage and export form)."""
         row = {field.name: getattr(self, field.name) for field in dataclasses.fields(self)}
-        row["x"] = None if self.x is None else [float(v) for v in self.x]
-        row["history"] = _history_to_json(self.history) if history else None
-        if not history:
+        row["x"] = None if self.x is None else self.x.tolist()
+        if history:
+            row["history"] = _history_to_json(self.history)
+        else:
             del row["history"]
         return row
 
@@ -538,12 +527,12 @@ def _history_to_json(history: History | None) -> dict[str, list] | None:
     if history is None:
         return None
     return {
-        "value": [float(v) for v in history.value],
-        "gradient_norm": [float(v) for v in history.gradient_norm],
-        "size": [float(v) for v in history.size],
-        "values": [int(v) for v in history.values],
-        "gradients": [int(v) for v in history.gradients],
-        "restarted": [bool(v) for v in history.restarted],
+        "value": np.asarray(history.value, dtype=float).tolist(),
+        "gradient_norm": np.asarray(history.gradient_norm, dtype=float).tolist(),
+        "size": np.asarray(history.size, dtype=float).tolist(),
+        "values": np.asarray(history.values, dtype=int).tolist(),
+        "gradients": np.asarray(history.gradients, dtype=int).tolist(),
+        "restarted": np.asarray(history.restarted, dtype=bool).tolist(),
         "status": list(history.status),
     }
 
@@ -660,13 +649,13 @@ def execute(task: _Task) -> dict[str, Any]:
             objective_seconds=sum(t.seconds for t in timers))
     seconds = time.perf_counter() - started
     value = float(run.value)
-    gap = problem.gap(value) if problem.optimal_values and math.isfinite(value) else None
+    optimum = optimum_below(problem.optimal_values, value) if math.isfinite(value) else None
     x = np.asarray(run.x, dtype=float).reshape(-1)
     return {
         "key": task.key, **task.header, "kind": str(run.verdict.kind.value),
         "reason": run.verdict.reason, "value": value,
         "initial_value": float(run.history.value[0]),
-        "optimum": None if gap is None else value - gap, "gap": gap,
+        "optimum": optimum, "gap": None if optimum is None else value - optimum,
         "solved": (problem.solved(value, rtol=task.solve_rtol)
                    if problem.optimal_values else None),
         "iterations": int(run.iterations),
@@ -674,7 +663,7 @@ def execute(task: _Task) -> dict[str, Any]:
         "gradient_evaluations": int(run.evaluations.gradients),
         "seconds": seconds, "objective_seconds": sum(t.seconds for t in timers),
         "error": None,
-        "x": [float(v) for v in x] if x.size <= STORED_POINT_LIMIT else None,
+        "x": x.tolist() if x.size <= STORED_POINT_LIMIT else None,
         "history": _history_to_json(run.history),
     }
 
@@ -708,14 +697,24 @@ def _picklable(thing: Any) -> str | None:
     return None
 
 
+def _shipping_trouble(problem: Problem) -> str | None:
+    """Why `problem` cannot travel to another process as it is; None when it can."""
+    if isinstance(problem, UserProblem) and problem.source is not None \
+            and from_file(problem.source):
+        # its functions pickle by reference to a module other processes cannot import
+        return "its module was loaded from a file path"
+    return _picklable(problem)
+
+
 def _prepare_for_processes(tasks: list[_Task], *, strict: bool) -> list[_Task]:
-    """Ship user problems by spec when they do not pickle; check everything else pickles."""
+    """Ship user problems by spec when they cannot travel as they are; check everything
+    else pickles."""
     verdicts: dict[int, str | None] = {}
     prepared = []
     for task in tasks:
         problem = task.problem
         if id(problem) not in verdicts:
-            verdicts[id(problem)] = _picklable(problem)
+            verdicts[id(problem)] = _shipping_trouble(problem)
         trouble = verdicts[id(problem)]
         if trouble is not None:
             source = problem.source if isinstance(problem, UserProblem) else None
@@ -816,93 +815,97 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
 
 def _dispatch(tasks: list[_Task], accept: Callable[[dict[str, Any]], None], *,
               workers: int | None, executor: Any, scheduler: Any) -> None:
-    client = None
-    owned = executor is None
+    if scheduler is not None and executor is not None:
+        raise ValueError("Give `executor` or `scheduler`, not both.")
+    workers = (os.cpu_count() or 1) if workers is None else _validate.integer("workers", workers)
     if scheduler is not None:
-        if executor is not None:
-            raise ValueError("Give `executor` or `scheduler`, not both.")
-        client, executor, owned = _dask_executor(scheduler)
-        tasks = _prepare_for_processes(tasks, strict=False)
-        limit = IN_FLIGHT_PER_WORKER * max(1, _dask_workers(client))
-        make = None
-    elif executor is not None:
-        tasks = _prepare_for_processes(tasks, strict=False)
-        limit = IN_FLIGHT_PER_WORKER * (workers or os.cpu_count() or 1)
-        make = None
+        client, close_client = _dask_client(scheduler)
+        try:
+            _drain(_prepare_for_processes(tasks, strict=False), accept, client.get_executor(),
+                   None, IN_FLIGHT_PER_WORKER * _dask_workers(client))
+        finally:
+            if close_client:
+                client.close()
+    elif executor is not None:  # not ours: what cannot travel to it fails per run
+        _drain(_prepare_for_processes(tasks, strict=False), accept, executor, None,
+               IN_FLIGHT_PER_WORKER * workers)
+    elif workers == 1:
+        _drain(tasks, accept, None, _InlineExecutor, IN_FLIGHT_PER_WORKER)
     else:
-        workers = workers or os.cpu_count() or 1
-        if int(workers) != workers or workers < 1:
-            raise ValueError(f"`workers` must be a positive integer; got {workers!r}.")
-        if workers == 1:
-            make = _InlineExecutor
-        else:
-            tasks, problems = _by_slot(_prepare_for_processes(tasks, strict=True))
-            make = functools.partial(ProcessPoolExecutor, max_workers=workers,
-                                     initializer=_install_problems, initargs=(problems,))
-        limit = IN_FLIGHT_PER_WORKER * workers
-        executor = make()
-    try:
-        _drain(tasks, accept, executor, make, limit)
-    finally:
-        if owned and executor is not None:
-            executor.shutdown(wait=False, cancel_futures=True)
-        if client is not None:
-            client.close()
+        tasks, problems = _by_slot(_prepare_for_processes(tasks, strict=True))
+        make = functools.partial(ProcessPoolExecutor, max_workers=workers,
+                                 initializer=_install_problems, initargs=(problems,))
+        _drain(tasks, accept, None, make, IN_FLIGHT_PER_WORKER * workers)
 
 
 def _drain(tasks: list[_Task], accept: Callable[[dict[str, Any]], None], executor: Any,
            make: Callable[[], Any] | None, limit: int) -> None:
-    """Keep up to `limit` tasks in flight; isolate and retry tasks that broke a pool."""
+    """Keep up to `limit` tasks in flight; isolate and retry tasks that broke a pool.
+
+    Runs on the `executor` given, or, when that is None, on a pool built with
+    `make`: that pool is ours, rebuilt when a worker dies and shut down at the end.
+    """
+    if executor is None:
+        executor = make()
     queue: deque[_Task] = deque(tasks)
     suspects: deque[_Task] = deque()  # tasks in flight when a worker died
     in_flight: dict[Future, tuple[_Task, bool]] = {}
     broken = False
-    while queue or suspects or in_flight:
-        if not broken:
-            if suspects and not in_flight:
-                task = suspects.popleft()  # alone, so a second death is its own
-                in_flight[executor.submit(execute, task)] = (task, True)
-            while not suspects and queue and len(in_flight) < limit:
-                task = queue.popleft()
-                in_flight[executor.submit(execute, task)] = (task, False)
-        if not in_flight:
-            if broken:
-                executor = _renew(executor, make)
-                broken = False
-            continue
-        finished, _ = wait(list(in_flight), return_when=FIRST_COMPLETED)
-        for future in [f for f in in_flight if f in finished]:  # in submission order
-            task, isolated = in_flight.pop(future)
-            try:
-                row = future.result()
-            except BrokenProcessPool as exc:
-                broken = True
-                if isolated:
-                    accept(_failed_row(
-                        task, "The worker process running this run died "
-                        f"({exc or 'no detail'}); the objective may have crashed the "
-                        "interpreter or run out of memory.", _error_text(exc)))
-                else:
-                    suspects.append(task)
-                continue
-            except Exception as exc:  # the executor could not run it (serialisation, cluster)
-                accept(_failed_row(task, f"The executor could not run this run: "
-                                         f"{type(exc).__name__}: {exc}", _error_text(exc)))
-                continue
-            accept(row)
+    try:
+        while queue or suspects or in_flight:
+            if broken and not in_flight:  # every task of the dead pool is back
+                if make is None:
+                    raise RuntimeError(
+                        "The executor passed to run_study is broken (a worker process died). "
+                        "Finished runs are saved; pass a fresh executor to resume the study."
+                    )
+                executor.shutdown(wait=False, cancel_futures=True)
+                executor, broken = make(), False
+            if not broken:
+                if suspects and not in_flight:
+                    task = suspects.popleft()  # alone, so a second death is its own
+                    in_flight[executor.submit(execute, task)] = (task, True)
+                while not suspects and queue and len(in_flight) < limit:
+                    task = queue.popleft()
+                    in_flight[executor.submit(execute, task)] = (task, False)
+            finished, _ = wait(list(in_flight), return_when=FIRST_COMPLETED)
+            for future in [f for f in in_flight if f in finished]:  # in submission order
+                task, isolated = in_flight.pop(future)
+                if _settle(future, task, isolated, accept):
+                    broken = True
+                    if not isolated:
+                        suspects.append(task)
+    finally:
+        if make is not None:
+            executor.shutdown(wait=False, cancel_futures=True)
 
 
-def _renew(executor: Any, make: Callable[[], Any] | None) -> Any:
-    if make is None:
-        raise RuntimeError(
-            "The executor passed to run_study is broken (a worker process died). Finished "
-            "runs are saved; pass a fresh executor to resume the study."
-        )
-    executor.shutdown(wait=False, cancel_futures=True)
-    return make()
+def _settle(future: Future, task: _Task, isolated: bool,
+            accept: Callable[[dict[str, Any]], None]) -> bool:
+    """Pass a finished task's row to `accept`; True when a worker process died instead.
+
+    A dead worker breaks the whole pool and every task in flight with it, so only
+    an `isolated` task (one that ran alone) is recorded as failed; `_drain`
+    retries the others one at a time.
+    """
+    try:
+        row = future.result()
+    except BrokenProcessPool as exc:
+        if isolated:
+            accept(_failed_row(
+                task, "The worker process running this run died "
+                f"({exc or 'no detail'}); the objective may have crashed the "
+                "interpreter or run out of memory.", _error_text(exc)))
+        return True
+    except Exception as exc:  # the executor could not run it (pickling, cluster)
+        row = _failed_row(task, f"The executor could not run this run: "
+                                f"{type(exc).__name__}: {exc}", _error_text(exc))
+    accept(row)
+    return False
 
 
-def _dask_executor(scheduler: Any) -> tuple[Any, Any, bool]:
+def _dask_client(scheduler: Any) -> tuple[Any, bool]:
+    """A Dask client for `scheduler` (an address or a client), and whether to close it."""
     try:
         from dask.distributed import Client
     except ImportError as exc:
@@ -910,15 +913,15 @@ def _dask_executor(scheduler: Any) -> tuple[Any, Any, bool]:
             'Running on a Dask cluster needs dask.distributed: pip install "linestep[dask]".'
         ) from exc
     if isinstance(scheduler, Client):
-        return None, scheduler.get_executor(), False
-    client = Client(scheduler)
-    return client, client.get_executor(), False
+        return scheduler, False
+    return Client(scheduler), True
 
 
 def _dask_workers(client: Any) -> int:
+    """Threads across the cluster's workers (at least 1; the CPU count if unknown)."""
     try:
-        return sum(client.nthreads().values()) if client is not None else os.cpu_count() or 1
-    except Exception:
+        return max(1, sum(client.nthreads().values()))
+    except Exception:  # noqa: BLE001 - any failure to ask: fall back to a local guess
         return os.cpu_count() or 1
 
 
@@ -942,8 +945,6 @@ class Results(Sequence):
                  solve_rtol: float = SOLVE_RTOL) -> None:
         self.records = tuple(records)
         self.solve_rtol = solve_rtol
-        self._references: dict[tuple, float | None] | None = None
-        self._lowest: dict[tuple, float] | None = None
         self._directions_vary = len({r.direction for r in self.records}) > 1
         self._stops = {stop: i for i, stop in
                        enumerate(dict.fromkeys(r.stop for r in self.records), start=1)}
@@ -986,31 +987,27 @@ class Results(Sequence):
     def reference(self, instance: tuple) -> float | None:
         """The value runs on `instance` are judged against: the known optimum when there
         is one, else the lowest final value of any run (None if no run ended finite)."""
-        if self._references is None:
-            references: dict[tuple, float | None] = {}
-            best: dict[tuple, float] = {}
-            for record in self.records:
-                if record.optimum is not None:
-                    known = references.get(record.instance)
-                    references[record.instance] = (record.optimum if known is None
-                                                   else min(known, record.optimum))
-                if record.value is not None and math.isfinite(record.value):
-                    best[record.instance] = min(best.get(record.instance, math.inf),
-                                                record.value)
-            for key, value in best.items():
-                references.setdefault(key, value)
-            self._references = references
         return self._references.get(instance)
+
+    @functools.cached_property
+    def _references(self) -> dict[tuple, float]:
+        optima: dict[tuple, float] = {}
+        best: dict[tuple, float] = {}
+        for record in self.records:
+            if record.optimum is not None:
+                optima[record.instance] = min(optima.get(record.instance, math.inf),
+                                              record.optimum)
+            if record.value is not None and math.isfinite(record.value):
+                best[record.instance] = min(best.get(record.instance, math.inf), record.value)
+        return {**best, **optima}
 
     def is_solved(self, record: RunRecord) -> bool:
         """The record's solved flag; for unknown optima, within `solve_rtol` of the best."""
         if record.solved is not None:
             return bool(record.solved)
-        if record.value is None or not math.isfinite(record.value):
-            return False
         reference = self.reference(record.instance)
-        return reference is not None and (
-            abs(record.value - reference) <= self.solve_rtol * max(1.0, abs(reference)))
+        return (reference is not None and record.value is not None
+                and close_to_optimum(record.value, reference, self.solve_rtol))
 
     def gap(self, record: RunRecord) -> float | None:
         """value − optimum, or value − best value found for unknown optima."""
@@ -1023,16 +1020,18 @@ class Results(Sequence):
 
     def lowest_value(self, instance: tuple) -> float | None:
         """The lowest f in any run's history on `instance`: Moré and Wild's f_L."""
-        if self._lowest is None:
-            lowest: dict[tuple, float] = {}
-            for record in self.records:
-                if record.history is not None:
-                    finite = record.history.value[np.isfinite(record.history.value)]
-                    if finite.size:
-                        lowest[record.instance] = min(lowest.get(record.instance, math.inf),
-                                                      float(finite.min()))
-            self._lowest = lowest
         return self._lowest.get(instance)
+
+    @functools.cached_property
+    def _lowest(self) -> dict[tuple, float]:
+        lowest: dict[tuple, float] = {}
+        for record in self.records:
+            if record.history is not None:
+                finite = record.history.value[np.isfinite(record.history.value)]
+                if finite.size:
+                    lowest[record.instance] = min(lowest.get(record.instance, math.inf),
+                                                  float(finite.min()))
+        return lowest
 
     # -- matrices for profiles --------------------------------------------------------------
     def cost_matrix(self, measure: str = "evaluations"
@@ -1044,15 +1043,9 @@ class Results(Sequence):
         solver on one instance (random starts are separate instances) keep the last.
         """
         cost = _measure(measure)
-        instances, solvers = self.instances(), self.solvers()
-        rows = {instance: i for i, instance in enumerate(instances)}
-        columns = {solver: j for j, solver in enumerate(solvers)}
-        costs = np.full((len(instances), len(solvers)), np.inf)
-        for record in self.records:
-            if self.is_solved(record):
-                costs[rows[record.instance], columns[self.solver(record)]] = max(
-                    cost(record), np.finfo(float).tiny)
-        return instances, solvers, costs
+        tiny = np.finfo(float).tiny
+        return self._matrix(lambda record: max(cost(record), tiny)
+                            if self.is_solved(record) else None)
 
     def first_success_matrix(self, tolerance: float
                              ) -> tuple[list[tuple], list[str], np.ndarray, np.ndarray]:
@@ -1062,21 +1055,29 @@ class Results(Sequence):
         """
         from linestep.bench.profiles import first_success
 
+        def cell(record: RunRecord) -> float | None:
+            history, f_low = record.history, self.lowest_value(record.instance)
+            if history is None or f_low is None:
+                return None
+            return first_success(history.values + history.gradients, history.value,
+                                 f_low=f_low, tolerance=tolerance)
+
+        instances, solvers, matrix = self._matrix(cell)
+        dimensions = np.array([instance[1] for instance in instances], dtype=float)
+        return instances, solvers, matrix, dimensions
+
+    def _matrix(self, cell: Callable[[RunRecord], float | None]
+                ) -> tuple[list[tuple], list[str], np.ndarray]:
+        """Instances × solvers of ``cell(record)``; inf where it is None or no run exists."""
         instances, solvers = self.instances(), self.solvers()
         rows = {instance: i for i, instance in enumerate(instances)}
         columns = {solver: j for j, solver in enumerate(solvers)}
-        lowest = {instance: self.lowest_value(instance) for instance in instances}
         matrix = np.full((len(instances), len(solvers)), np.inf)
         for record in self.records:
-            history = record.history
-            f_low = lowest[record.instance]
-            if history is None or f_low is None:
-                continue
-            matrix[rows[record.instance], columns[self.solver(record)]] = first_success(
-                history.values + history.gradients, history.value, f_low=f_low,
-                tolerance=tolerance)
-        dimensions = np.array([instance[1] for instance in instances], dtype=float)
-        return instances, solvers, matrix, dimensions
+            value = cell(record)
+            if value is not None:
+                matrix[rows[record.instance], columns[self.solver(record)]] = value
+        return instances, solvers, matrix
 
     def to_rows(self, *, history: bool = False) -> list[dict[str, Any]]:
         """One dict per run (tidy form), with `gap` and `solved` filled in for unknown
@@ -1092,14 +1093,15 @@ class Results(Sequence):
         return rows
 
 
+# Costs a profile can measure runs by (`Results.cost_matrix`).
+_MEASURES: dict[str, Callable[[RunRecord], float]] = {
+    "evaluations": lambda r: r.evaluations,
+    "values": lambda r: r.value_evaluations,
+    "gradients": lambda r: r.gradient_evaluations,
+    "iterations": lambda r: max(r.iterations, 1),
+    "seconds": lambda r: r.seconds,
+}
+
+
 def _measure(name: str) -> Callable[[RunRecord], float]:
-    measures: dict[str, Callable[[RunRecord], float]] = {
-        "evaluations": lambda r: r.evaluations,
-        "values": lambda r: r.value_evaluations,
-        "gradients": lambda r: r.gradient_evaluations,
-        "iterations": lambda r: max(r.iterations, 1),
-        "seconds": lambda r: r.seconds,
-    }
-    if name not in measures:
-        raise ValueError(f"`measure` must be one of {sorted(measures)}; got {name!r}.")
-    return measures[name]
+    return _MEASURES[_validate.choice("measure", name, tuple(_MEASURES))]

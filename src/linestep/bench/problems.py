@@ -66,6 +66,9 @@ from linestep.bench import _mgh
 
 __all__ = ["Problem", "get_problem", "mgh_problems", "problem_names"]
 
+# Relative tolerance of the solved test: |f − f*| <= SOLVE_RTOL · max(1, |f*|).
+SOLVE_RTOL = 1e-4
+
 
 @dataclass(frozen=True, slots=True, kw_only=True, eq=False)
 class Problem:
@@ -159,24 +162,36 @@ class Problem:
         the result is ``f - min(optimal_values)``, a negative number. ``None``
         when no optimal value is known.
         """
-        if not self.optimal_values:
-            return None
         f = float(f)
-        below = [v for v in self.optimal_values if v <= f]
-        return f - (max(below) if below else min(self.optimal_values))
+        optimum = optimum_below(self.optimal_values, f)
+        return None if optimum is None else f - optimum
 
-    def solved(self, f: float, *, rtol: float = 1e-4) -> bool:
+    def solved(self, f: float, *, rtol: float = SOLVE_RTOL) -> bool:
         """Whether `f` is within ``rtol * max(1, |v|)`` of a known optimal value ``v``.
 
         Always ``False`` when no optimal value is known or `f` is not finite.
         """
-        f = float(f)
-        if not math.isfinite(f):
-            return False
-        return any(abs(f - v) <= rtol * max(1.0, abs(v)) for v in self.optimal_values)
+        return any(close_to_optimum(f, v, rtol) for v in self.optimal_values)
 
     def __repr__(self) -> str:
         return f"Problem(name={self.name!r}, dimension={self.dimension})"
+
+
+def close_to_optimum(f: float, optimum: float, rtol: float = SOLVE_RTOL) -> bool:
+    """The solved test: |f − optimum| <= rtol · max(1, |optimum|).
+
+    False for a non-finite `f` (the difference is then inf or NaN).
+    """
+    return abs(float(f) - optimum) <= rtol * max(1.0, abs(optimum))
+
+
+def optimum_below(optimal_values: tuple[float, ...], f: float) -> float | None:
+    """The optimal value `Problem.gap` measures `f` from: the largest one <= f, else the
+    smallest (published values are rounded); None when there is none."""
+    if not optimal_values:
+        return None
+    below = [v for v in optimal_values if v <= f]
+    return max(below) if below else min(optimal_values)
 
 
 def _finite_vector(argument: str, data: Any) -> np.ndarray:

@@ -54,6 +54,8 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from linestep import _validate
+
 __all__ = [
     "DEFAULT_LOG2_TAU_MAX",
     "data_profile",
@@ -94,7 +96,7 @@ def performance_ratios(costs: Sequence | np.ndarray) -> np.ndarray:
            [inf, inf]])
     """
     array = _costs(costs)
-    best = array.min(axis=1, keepdims=True)
+    best = array.min(axis=1, keepdims=True, initial=np.inf)  # inf also with no solvers
     with np.errstate(invalid="ignore"):
         ratios = array / best
     ratios[~np.isfinite(array)] = np.inf
@@ -124,8 +126,7 @@ def robustness_score(costs: Sequence | np.ndarray, *,
     >>> robustness_score([[1.0, 4.0], [2.0, 2.0]], log2_tau_max=4)  # ratios [1, 4], [1, 1]
     array([1.  , 0.75])
     """
-    if not log2_tau_max > 0:
-        raise ValueError(f"`log2_tau_max` must be > 0; got {log2_tau_max!r}.")
+    log2_tau_max = _validate.positive("log2_tau_max", log2_tau_max)
     ratios = performance_ratios(costs)
     if ratios.shape[0] == 0:
         return np.zeros(ratios.shape[1])
@@ -156,8 +157,7 @@ def first_success(costs: Sequence | np.ndarray, values: Sequence | np.ndarray, *
     >>> first_success([1, 4, 7, 9], [10.0, 3.0, 0.5, 0.0], f_low=0.0, tolerance=0.1)
     7.0
     """
-    if not 0.0 < tolerance < 1.0:
-        raise ValueError(f"`tolerance` must lie in (0, 1); got {tolerance!r}.")
+    tolerance = _validate.open_unit("tolerance", tolerance)
     costs = np.asarray(costs, dtype=float)
     values = np.asarray(values, dtype=float)
     if costs.shape != values.shape or costs.ndim != 1 or costs.size == 0:

@@ -43,11 +43,13 @@ from typing import Any
 
 import numpy as np
 
+from linestep import _validate
 from linestep.bench.harness import Results
 from linestep.bench.profiles import (
     DEFAULT_LOG2_TAU_MAX,
     data_profile,
     performance_profile,
+    performance_ratios,
     robustness_score,
 )
 
@@ -93,15 +95,17 @@ def ranking(results: Results, *, measure: str = "evaluations",
     ``median`` (the median cost over solved runs, None if none solved) and ``score``.
     """
     _, solvers, costs = results.cost_matrix(measure)
-    scores = robustness_score(costs, log2_tau_max=log2_tau_max) if costs.size else []
+    scores = robustness_score(costs, log2_tau_max=log2_tau_max)
+    by_solver: dict[str, list] = {solver: [] for solver in solvers}
+    for record in results:
+        by_solver[results.solver(record)].append(record)
     rows = []
-    for j, solver in enumerate(solvers):
-        records = [r for r in results if results.solver(r) == solver]
+    for j, (solver, records) in enumerate(by_solver.items()):
         solved = costs[:, j][np.isfinite(costs[:, j])]
         rows.append({
             "solver": solver,
             "runs": len(records),
-            "solved": int(sum(results.is_solved(r) for r in records)),
+            "solved": sum(results.is_solved(r) for r in records),
             "failed": sum(r.kind == "failed" for r in records),
             "median": float(np.median(solved)) if solved.size else None,
             "score": float(scores[j]),
@@ -218,9 +222,7 @@ def performance_figure(results: Results, *, measure: str = "evaluations") -> Any
     _, solvers, costs = results.cost_matrix(measure)
     figure = _new_figure(5.6, 3.6)
     axes = figure.add_subplot()
-    best = costs.min(axis=1, keepdims=True) if costs.size else costs
-    with np.errstate(invalid="ignore"):
-        ratios = costs / best
+    ratios = performance_ratios(costs)
     finite = ratios[np.isfinite(ratios)]
     top = max(2.0, float(finite.max()) * 1.5) if finite.size else 2.0
     taus = np.unique(np.concatenate([[1.0, top], finite]))
@@ -317,8 +319,7 @@ def _slug(instance: tuple) -> str:
 def write_figures(results: Results, folder: str | Path, *, form: str = "png",
                   convergence_limit: int = MAX_CONVERGENCE_PLOTS) -> list[Path]:
     """Save every report figure as PNG or SVG files in `folder`; return their paths."""
-    if form not in ("png", "svg"):
-        raise ValueError(f"`form` must be 'png' or 'svg'; got {form!r}.")
+    form = _validate.choice("form", form, ("png", "svg"))
     folder = Path(folder)
     folder.mkdir(parents=True, exist_ok=True)
     written = []
@@ -471,7 +472,7 @@ def write_report(source: str | Path | Results, out: str | Path | None = None, *,
     if json:
         written["json"] = write_json(results, out / "results.json")
     if figures is not None:
-        paths = write_figures(results, out / "figures", form=figures)
-        written["figures"] = out / "figures" if paths else out
+        write_figures(results, out / "figures", form=figures)
+        written["figures"] = out / "figures"
     return written
 

@@ -175,7 +175,7 @@ class ResultStore:
             return SCHEMA_VERSION
         if "metadata" not in tables:
             raise self._refuse("is an SQLite database that linestep's harness did not write.")
-        metadata = dict(self._connection.execute("SELECT name, value FROM metadata"))
+        metadata = self.metadata()
         if metadata.get("format") != FORMAT:
             raise self._refuse("is an SQLite database that linestep's harness did not write.")
         try:
@@ -232,8 +232,11 @@ class ResultStore:
             raise ValueError(f"`row` lacks the columns {missing}.")
         values = [_to_sql(name, row[name]) for name in COLUMNS]
         with self._connection:  # one transaction per run: committed when this block ends
-            sequence = self._connection.execute(
-                "SELECT COALESCE(MAX(sequence), 0) + 1 FROM runs").fetchone()[0]
+            # Rows are appended, so the last row holds the largest sequence number: a
+            # lookup by rowid, where MAX(sequence) would scan the whole table per run.
+            last = self._connection.execute(
+                "SELECT sequence FROM runs ORDER BY rowid DESC LIMIT 1").fetchone()
+            sequence = 1 if last is None else last[0] + 1
             cursor = self._connection.execute(
                 f"INSERT OR IGNORE INTO runs (sequence, {', '.join(COLUMNS)}) "
                 f"VALUES (?, {', '.join('?' for _ in COLUMNS)})", [sequence, *values])

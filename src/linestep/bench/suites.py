@@ -42,6 +42,7 @@ from typing import Any
 
 import numpy as np
 
+from linestep import _validate
 from linestep.bench.problems import Problem, get_problem, mgh_problems
 
 __all__ = [
@@ -140,12 +141,13 @@ def quadratic_problem(condition: float, *, dimension: int = QUADRATIC_DIMENSION,
     standard start are seeded standard normal vectors. Same arguments, same
     problem, on every machine.
     """
-    if not (math.isfinite(condition) and condition >= 1.0):
-        raise ValueError(f"`condition` must be a finite number >= 1; got {condition!r}.")
-    if int(dimension) != dimension or dimension < 2:
-        raise ValueError(f"`dimension` must be an integer >= 2; got {dimension!r}.")
+    condition = _validate.positive("condition", condition)
+    if condition < 1.0:
+        raise ValueError(f"`condition` must be >= 1; got condition={condition!r}.")
+    dimension = _validate.integer("dimension", dimension, minimum=2)
+    seed = _validate.integer("seed", seed, minimum=0)
     exponent = math.log10(condition)
-    rng = np.random.default_rng([int(seed), int(dimension), round(1000 * exponent)])
+    rng = np.random.default_rng([seed, dimension, round(1000 * exponent)])
     basis, _ = np.linalg.qr(rng.standard_normal((dimension, dimension)))
     spectrum = np.geomspace(1.0, condition, dimension)
     matrix = (basis * spectrum) @ basis.T
@@ -277,8 +279,7 @@ def logistic_problem(penalty: float = 1e-3) -> Problem:
     Newton solve (max-norm gradient <= 1e-13), so runs are judged against them.
     See `LogisticLoss` and `breast_cancer_data`.
     """
-    if not (math.isfinite(penalty) and penalty > 0):
-        raise ValueError(f"`penalty` must be a finite number > 0; got {penalty!r}.")
+    penalty = _validate.positive("penalty", penalty)
     features, labels = breast_cancer_data()
     loss = LogisticLoss(features, labels, penalty)
     dimension = features.shape[1] + 1

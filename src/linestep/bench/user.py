@@ -134,6 +134,30 @@ def resolve_source(source: tuple[str, int]) -> UserProblem:
     return _load(spec)[index]
 
 
+def from_file(source: tuple[str, int]) -> bool:
+    """Whether the spec of `source` names a file path (``path/to/file.py:function``).
+
+    Such a module is registered under a private name in this process only, so
+    other processes cannot import it by name: they rebuild the problem from the spec.
+    """
+    return source[0].rpartition(":")[0].endswith(".py")
+
+
+def _accepts(function: Callable, *arguments: Any) -> bool:
+    """False when the signature of `function` rules out ``function(*arguments)``.
+
+    True when it allows the call, and when there is no signature to check (some
+    builtins and numpy ufuncs): the call itself will tell.
+    """
+    try:
+        inspect.signature(function).bind(*arguments)
+    except TypeError:
+        return False
+    except ValueError:
+        pass
+    return True
+
+
 def _resolve(spec: str) -> Callable[[], Any]:
     if not isinstance(spec, str) or spec.count(":") < 1:
         raise ObjectiveSpecError(
@@ -160,16 +184,12 @@ def _resolve(spec: str) -> Callable[[], Any]:
             f"{spec!r} must name a function returning a problem description; "
             f"{attribute!r} is a {type(function).__name__}."
         )
-    try:
-        inspect.signature(function).bind()
-    except TypeError:
+    if not _accepts(function):
         raise ObjectiveSpecError(
             f"{spec!r} must be callable with no arguments (it returns the problem "
             f"description); its signature is {attribute}{inspect.signature(function)}. "
             "Give the parameters defaults or wrap it in a function without parameters."
-        ) from None
-    except ValueError:  # no signature available (some builtins): try the call later
-        pass
+        )
     return function
 
 
@@ -243,15 +263,11 @@ def as_problems(description: Any, *, name: str = "objective",
         parts = {key: getattr(description, key) for key in _KEYS if hasattr(description, key)}
         return [_from_parts(parts, name, where)]
     if callable(description):
-        try:
-            inspect.signature(description).bind()
-        except TypeError:
+        if not _accepts(description):
             raise ObjectiveSpecError(
                 f"{where} is a function that needs arguments; pass a function without "
                 "parameters that returns the problem description, or the description itself."
-            ) from None
-        except ValueError:
-            pass
+            )
         return as_problems(description(), name=getattr(description, "__name__", name),
                            context=where)
     raise ObjectiveSpecError(
@@ -316,15 +332,11 @@ def _check_callable(candidate: Any, key: str, where: str) -> None:
         raise ObjectiveSpecError(
             f"{where}: {key!r} must be callable, taking x; got {type(candidate).__name__}."
         )
-    try:
-        inspect.signature(candidate).bind(np.zeros(1))
-    except TypeError:
+    if not _accepts(candidate, np.zeros(1)):
         raise ObjectiveSpecError(
             f"{where}: {key!r} must take the point x as its one argument; its signature is "
             f"{inspect.signature(candidate)}."
-        ) from None
-    except ValueError:  # no signature available (numpy ufuncs, some builtins)
-        pass
+        )
 
 
 def _with_source(problem: Problem, source: tuple[str, int]) -> UserProblem:
