@@ -75,6 +75,13 @@ def curvature_pair(c1: Any, c2: Any) -> tuple[float, float]:
     return c1, c2
 
 
+def flag(name: str, value: Any) -> bool:
+    """True or False, nothing else (1, "yes" and None are refused)."""
+    if not isinstance(value, bool):
+        raise TypeError(f"`{name}` must be True or False; got {value!r}.")
+    return value
+
+
 def choice(name: str, value: Any, options: tuple[str, ...]) -> str:
     """One of a fixed set of option strings."""
     if value not in options:

@@ -396,10 +396,20 @@ def test_a_training_loop_compiled_with_scan():
 
 # ----------------------------------------------------------------- pytrees
 
+# Whole runs with each kind of search: backtracking, bracketing, BB.
+RUN_SEARCHES = pytest.mark.parametrize(
+    "search", [lj.armijo(), lj.wolfe(), lj.barzilai_borwein()], ids=["armijo", "wolfe", "bb"])
+
+
+def direction_for(search):
+    """L-BFGS, except for Barzilai–Borwein, which is defined along −∇f only."""
+    if isinstance(search, type(lj.barzilai_borwein())):
+        return lj.steepest_descent()
+    return lj.lbfgs()
+
 
 @pytest.mark.slow
-@pytest.mark.parametrize("search", [lj.armijo(), lj.wolfe(), lj.barzilai_borwein()],
-                         ids=["armijo", "wolfe", "bb"])
+@RUN_SEARCHES
 def test_pytree_parameters_run_as_their_flattened_vector(search):
     def loss_tree(p):
         w, b, c = p["w"], p["b"], p["extra"][0]
@@ -408,8 +418,7 @@ def test_pytree_parameters_run_as_their_flattened_vector(search):
 
     tree = {"w": jnp.ones((2, 3)), "b": jnp.array([0.5, -0.5]), "extra": [jnp.array(3.0)]}
     flat, unravel = ravel_pytree(tree)
-    direction = lj.lbfgs() if not isinstance(search, type(lj.barzilai_borwein())) \
-        else lj.steepest_descent()
+    direction = direction_for(search)
     by_tree = lj.descend(loss_tree, tree, search=search, direction=direction,
                          max_iterations=300)
     by_flat = lj.descend(lambda v: loss_tree(unravel(v)), flat, search=search,
@@ -431,14 +440,12 @@ def _float_dtypes(tree):
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("search", [lj.armijo(), lj.wolfe(), lj.barzilai_borwein()],
-                         ids=["armijo", "wolfe", "bb"])
+@RUN_SEARCHES
 def test_float32_parameters_stay_float32_with_x64_on(search):
     fun = _problems.extended_rosenbrock
     x0 = jnp.tile(jnp.array([-1.2, 1.0], jnp.float32), 4)
-    direction = lj.steepest_descent() if "barzilai" in repr(search) else lj.lbfgs()
-    run = lj.descend(fun, x0, search=search, direction=direction, max_iterations=3000,
-                     gradient_atol=1e-3)
+    run = lj.descend(fun, x0, search=search, direction=direction_for(search),
+                     max_iterations=3000, gradient_atol=1e-3)
     assert _float_dtypes(run) == {jnp.dtype(jnp.float32)}
     assert run.verdict().kind.value == "converged"
     out = search.step(fun, x0, -jax.grad(fun)(x0), state=search.begin(x0))

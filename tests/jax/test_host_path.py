@@ -133,8 +133,7 @@ def test_non_finite_values_along_the_ray_never_reach_x(name):
 def test_descend_keeps_type_and_dtype(direction, dtype):
     fun, grad = bowl(jnp)
     x0 = jnp.zeros(4, dtype=dtype)
-    controller = linestep.Armijo() if direction is SteepestDescent else linestep.Wolfe() \
-        if hasattr(linestep, "Wolfe") else linestep.Armijo()
+    controller = linestep.Armijo() if direction is SteepestDescent else linestep.Wolfe()
     run = linestep.descend((fun, grad), x0, controller=controller, direction=direction(),
                            stop=linestep.stopping.GradientNorm(atol=1e-4, rtol=0.0)
                            | linestep.stopping.MaxIterations(500))

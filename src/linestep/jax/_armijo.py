@@ -23,15 +23,10 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
+from linestep import _validate
 from linestep.jax import _initial, _interpolate
 from linestep.jax._line import INF, Line
-from linestep.jax._search import (
-    ACCEPTED,
-    MAX_EVALUATIONS,
-    STEP_TOO_SMALL,
-    CompiledSearch,
-    code,
-)
+from linestep.jax._search import ACCEPTED, MAX_EVALUATIONS, STEP_TOO_SMALL, CompiledSearch
 from linestep.searches.armijo import NON_FINITE_SHRINK, Armijo
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
@@ -94,9 +89,8 @@ class Backtracking(CompiledSearch):
         nan = jnp.full((), jnp.nan, line.dtype)
         start = (jnp.asarray(_RUNNING, jnp.int32), first, nan, nan, line.origin(), line.start())
         outcome, _, _, _, point, tally = jax.lax.while_loop(keep_going, trial, start)
-        status = jnp.where(outcome == _ACCEPTED, code(ACCEPTED),
-                           jnp.where(outcome == _TOO_SMALL, code(STEP_TOO_SMALL),
-                                     code(MAX_EVALUATIONS)))
+        status = jnp.select([outcome == _ACCEPTED, outcome == _TOO_SMALL],
+                            [ACCEPTED, STEP_TOO_SMALL], MAX_EVALUATIONS).astype(jnp.int32)
         return point, outcome == _ACCEPTED, status, tally
 
 
@@ -156,12 +150,6 @@ class NonmonotoneSearch(Backtracking):
         reference, memory = self.next_reference(state.method, line.value)
         point, has_point, status, tally = self.backtrack(line, first, active, reference)
         return point, has_point, status, tally, memory
-
-
-def _fused(value: Any) -> bool:
-    if not isinstance(value, bool):
-        raise TypeError(f"`fused` must be True or False; got {value!r}.")
-    return value
 
 
 def armijo(*, c1: float = 1e-4, shrink: float = 0.5, interpolation: str | None = "cubic",
@@ -225,7 +213,8 @@ def armijo(*, c1: float = 1e-4, shrink: float = 0.5, interpolation: str | None =
                         interpolation=options.interpolation,
                         shrink_limits=options.shrink_limits,
                         initial=_initial.resolve(options.initial),
-                        max_evaluations=options.max_evaluations, fused=_fused(fused))
+                        max_evaluations=options.max_evaluations,
+                        fused=_validate.flag("fused", fused))
 
 
 def nonmonotone_armijo(*, memory: int = 10, reference: str = "max", eta: float = 0.85,
@@ -268,4 +257,5 @@ def nonmonotone_armijo(*, memory: int = 10, reference: str = "max", eta: float =
                              interpolation=options.interpolation,
                              shrink_limits=options.shrink_limits,
                              initial=_initial.resolve(options.initial),
-                             max_evaluations=options.max_evaluations, fused=_fused(fused))
+                             max_evaluations=options.max_evaluations,
+                             fused=_validate.flag("fused", fused))

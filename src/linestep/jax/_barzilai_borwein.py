@@ -1,7 +1,10 @@
 """Compiled Barzilai–Borwein steps along −∇f, globalised by a (nonmonotone) backtracking search.
 
 The host `linestep.rules.barzilai_borwein.BarzilaiBorwein`, with the previous
-point and gradient kept in the `SearchState` instead of on the object.
+point and gradient kept in the `SearchState` instead of on the object. The
+state's `calls` says whether there is a previous point (calls > 0) and counts
+the BB steps for ``variant="alternate"`` (the host's count: one per call after
+the first).
 
 References
 ----------
@@ -21,23 +24,22 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
+from linestep import _validate
 from linestep.jax import _initial, _tree
 from linestep.jax._armijo import Backtracking, NonmonotoneSearch, nonmonotone_armijo
-from linestep.jax._line import INF, Line
-from linestep.jax._search import ACCEPTED, NON_FINITE, CompiledSearch
+from linestep.jax._line import Line
+from linestep.jax._search import CompiledSearch, guarded_step
 from linestep.rules.barzilai_borwein import DIRECTION_RTOL, BarzilaiBorwein
 
 
 @jax.tree_util.register_dataclass
 @dataclass(frozen=True, slots=True, kw_only=True)
 class Pair:
-    """The previous call's x and ∇f, the BB step proposed then, and the BB-step count."""
+    """The previous call's x and ∇f, and the BB step proposed then."""
 
     x: Any
     gradient: Any
-    has_previous: Any
     trial: Any
-    count: Any
     reference: Any  # the globalising search's nonmonotone memory, or None
 
 
@@ -65,16 +67,14 @@ class BarzilaiBorweinSearch(CompiledSearch):
         if isinstance(self.globalize, NonmonotoneSearch):
             reference = self.globalize._begin_method(x, dtype)
         zeros = _tree.tree_map(jnp.zeros_like, x)
-        return Pair(x=zeros, gradient=zeros, has_previous=jnp.zeros((), bool),
-                    trial=jnp.ones((), dtype), count=jnp.zeros((), jnp.int32),
-                    reference=reference)
+        return Pair(x=zeros, gradient=zeros, trial=jnp.ones((), dtype), reference=reference)
 
     def _scale(self, line: Line) -> Any:
         """c with d = c·(−∇f), from φ'(0) = −c·‖∇f‖² (the host's check, as data)."""
         squared = _tree.vdot(line.gradient, line.gradient)
         return -line.slope / jnp.where(squared > 0, squared, 1.0)
 
-    def _usable(self, line: Line, state: Any) -> Any:
+    def _usable(self, line: Line) -> Any:
         # d must be c·(−∇f) with c > 0; the host raises otherwise, a compiled call
         # reports not_descent.
         scale = self._scale(line)
@@ -85,38 +85,30 @@ class BarzilaiBorweinSearch(CompiledSearch):
     def _clip(self, size: Any) -> Any:
         return jnp.minimum(jnp.maximum(size, self.min_size), self.max_size)
 
-    def _propose(self, line: Line, first: Any, pair: Pair) -> tuple[Any, Any]:
-        """The clipped BB step α and the new count."""
+    def _propose(self, line: Line, first: Any, pair: Pair, calls: Any) -> Any:
+        """The clipped BB step α (`first` on the first call)."""
         s = _tree.subtract(line.x, pair.x)
         y = _tree.subtract(line.gradient, pair.gradient)
         sy = _tree.vdot(s, y)
-        count = pair.count + pair.has_previous.astype(jnp.int32)
-        long = count % 2 == 1 if self.variant == "alternate" else self.variant == "long"
+        long = calls % 2 == 1 if self.variant == "alternate" else self.variant == "long"
         bb = jnp.where(long, _tree.vdot(s, s) / sy, sy / _tree.vdot(y, y))
         good = (sy > 0) & jnp.isfinite(bb) & (bb > 0)
         step = jnp.where(good, self._clip(bb), self._clip(pair.trial))
-        return jnp.where(pair.has_previous, step, self._clip(first)).astype(line.dtype), count
+        return jnp.where(calls > 0, step, self._clip(first)).astype(line.dtype)
 
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
         pair = state.method
         scale = self._scale(line)
-        step, count = self._propose(line, first * scale, pair)
+        step = self._propose(line, first * scale, pair, state.calls)
         size = step / scale
         reference = line.value
         memory = pair.reference
         if isinstance(self.globalize, NonmonotoneSearch):
             reference, memory = self.globalize.next_reference(pair.reference, line.value)
-        new_pair = Pair(x=line.x, gradient=line.gradient, has_previous=jnp.ones((), bool),
-                        trial=step, count=count, reference=memory)
+        new_pair = Pair(x=line.x, gradient=line.gradient, trial=step, reference=memory)
         if self.globalize is None:
-            point, tally = jax.lax.cond(active, lambda: line.evaluate(size, line.start()),
-                                        lambda: (line.origin(), line.start()))
-            good = point.value < INF
-            status = jnp.where(good, ACCEPTED, NON_FINITE).astype(jnp.int32)
-            return point, good, status, tally, new_pair
-        point, has_point, status, tally = self.globalize.backtrack(line, size, active,
-                                                                   reference)
-        return point, has_point, status, tally, new_pair
+            return *guarded_step(line, size, active), new_pair
+        return *self.globalize.backtrack(line, size, active, reference), new_pair
 
 
 def barzilai_borwein(*, variant: str = "alternate", first: Any = None,
@@ -167,9 +159,7 @@ def barzilai_borwein(*, variant: str = "alternate", first: Any = None,
         )
     options = BarzilaiBorwein(variant=variant, first=first, min_size=min_size,
                               max_size=max_size, globalize=None)
-    if not isinstance(fused, bool):
-        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
     return BarzilaiBorweinSearch(variant=options.variant,
                                  first=_initial.resolve(options.first),
                                  min_size=options.min_size, max_size=options.max_size,
-                                 globalize=globalize, fused=fused)
+                                 globalize=globalize, fused=_validate.flag("fused", fused))

@@ -23,33 +23,27 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
+from linestep import _validate
 from linestep.directions import DEFAULT_CURVATURE_TOLERANCE, LBFGS
 from linestep.jax import _tree
-from linestep.jax._records import DirectionState, Proposal
+from linestep.jax._checks import check_like, check_parameters, check_state
+from linestep.jax._records import DirectionState, Proposal, Rebuildable
 
 
-def _check(x: Any, gradient: Any, state: Any) -> Any:
-    structure = _tree.check_parameters(x)
-    if not isinstance(state, DirectionState):
-        raise TypeError(
-            "`state` must be the DirectionState from begin(x) or from the previous "
-            f"proposal's `.state`; got {type(state).__name__}."
-        )
-    _tree.check_state("state", state.structure, structure)
-    _tree.check_like("gradient", gradient, x, structure)
-    return structure
+def _check(x: Any, gradient: Any, state: Any) -> None:
+    structure = check_state(state, DirectionState, x, returned_by="proposal")
+    check_like("gradient", gradient, x, structure)
 
 
-@dataclass(frozen=True)
-class SteepestDirection:
+@dataclass(frozen=True, repr=False)
+class SteepestDirection(Rebuildable):
     """d = −∇f."""
 
-    def __repr__(self) -> str:
-        return "steepest_descent()"
+    _factory = "steepest_descent"
 
     def begin(self, x: Any) -> DirectionState:
         """A state for parameters shaped like `x` (steepest descent keeps nothing)."""
-        return DirectionState(method=None, structure=_tree.check_parameters(x))
+        return DirectionState(method=None, structure=check_parameters(x))
 
     def reset(self, state: DirectionState, *, when: Any = True) -> DirectionState:
         """The state with its memory forgotten (nothing to forget here)."""
@@ -78,20 +72,17 @@ class Pairs:
     has_previous: Any
 
 
-@dataclass(frozen=True)
-class LBFGSDirection:
+@dataclass(frozen=True, repr=False)
+class LBFGSDirection(Rebuildable):
     memory: int
     curvature_tolerance: float
     scale_first: bool
-
-    def __repr__(self) -> str:
-        return (f"lbfgs(memory={self.memory!r}, "
-                f"curvature_tolerance={self.curvature_tolerance!r}, "
-                f"scale_first={self.scale_first!r})")
+    _factory = "lbfgs"
+    _fields = ("memory", "curvature_tolerance", "scale_first")
 
     def begin(self, x: Any) -> DirectionState:
         """Empty ring buffers for parameters shaped like `x`."""
-        structure = _tree.check_parameters(x)
+        structure = check_parameters(x)
         dtype = _tree.scalar_dtype(x)
         buffers = _tree.tree_map(lambda u: jnp.zeros((self.memory, *jnp.shape(u)), u.dtype), x)
         zeros = _tree.tree_map(jnp.zeros_like, x)
@@ -280,9 +271,8 @@ def lbfgs(memory: int = 10, *, curvature_tolerance: float = DEFAULT_CURVATURE_TO
     >>> int(second.state.method.stored), bool(second.restarted)
     (1, False)
     """
-    if not isinstance(scale_first, bool):
-        raise TypeError(f"`scale_first` must be True or False; got {scale_first!r}.")
-    options = LBFGS(memory, curvature_tolerance=curvature_tolerance, scale_first=scale_first)
+    options = LBFGS(memory, curvature_tolerance=curvature_tolerance,
+                    scale_first=_validate.flag("scale_first", scale_first))
     return LBFGSDirection(memory=options.memory,
                           curvature_tolerance=options.curvature_tolerance,
                           scale_first=options.scale_first)

@@ -20,15 +20,15 @@ from typing import Any
 import jax.numpy as jnp
 
 from linestep import _initial
+from linestep.jax._records import Rebuildable
 
 # Imported, not copied, so both paths enlarge the quadratic guess alike.
 ENLARGE = _initial.QuadraticTrial.ENLARGE
 
 
-@dataclass(frozen=True)
-class Unit:
-    def __repr__(self) -> str:
-        return "UnitTrial()"
+@dataclass(frozen=True, repr=False)
+class Unit(Rebuildable):
+    _factory = "UnitTrial"
 
     def guess(self, state: Any, origin: Any) -> Any:
         return jnp.ones((), origin.dtype)
@@ -45,27 +45,24 @@ class Constant:
         return jnp.asarray(self.size, origin.dtype)
 
 
-@dataclass(frozen=True)
-class Scaled:
+@dataclass(frozen=True, repr=False)
+class Scaled(Rebuildable):
     length: float
-
-    def __repr__(self) -> str:
-        return f"ScaledTrial(length={self.length!r})"
+    _factory = "ScaledTrial"
+    _fields = ("length",)
 
     def guess(self, state: Any, origin: Any) -> Any:
         norm = jnp.sqrt(origin.direction_squared)
         return jnp.where(norm > 0, self.length / jnp.where(norm > 0, norm, 1.0), 1.0)
 
 
-@dataclass(frozen=True)
-class Previous:
+@dataclass(frozen=True, repr=False)
+class Previous(Rebuildable):
     growth: float
     first: Any
     max_size: float
-
-    def __repr__(self) -> str:
-        return (f"PreviousTrial(growth={self.growth!r}, first={self.first!r}, "
-                f"max_size={self.max_size!r})")
+    _factory = "PreviousTrial"
+    _fields = ("growth", "first", "max_size")
 
     def guess(self, state: Any, origin: Any) -> Any:
         size = state.previous_size
@@ -73,13 +70,12 @@ class Previous:
         return jnp.where(jnp.isnan(size), self.first.guess(state, origin), grown)
 
 
-@dataclass(frozen=True)
-class Quadratic:
+@dataclass(frozen=True, repr=False)
+class Quadratic(Rebuildable):
     first: Any
     cap: float
-
-    def __repr__(self) -> str:
-        return f"QuadraticTrial(first={self.first!r}, cap={self.cap!r})"
+    _factory = "QuadraticTrial"
+    _fields = ("first", "cap")
 
     def guess(self, state: Any, origin: Any) -> Any:
         size = state.previous_size

@@ -10,10 +10,8 @@ produces a NaN that the result does not ask for.
 
 References
 ----------
-J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed., Springer, 2006,
-§3.5 (eqs. 3.57–3.59).
-J. J. Moré and D. J. Thuente, "Line search algorithms with guaranteed sufficient
-decrease", ACM TOMS 20(3):286–307, 1994, §4.
+Those of `linestep._interpolate`: Nocedal & Wright 2006, §3.5 (eqs. 3.57–3.59);
+Moré & Thuente 1994, §4.
 """
 
 from __future__ import annotations

@@ -7,9 +7,10 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
-from linestep import _validate
+from linestep import _validate, stopping
 from linestep.jax import _tree
 from linestep.jax._armijo import armijo
+from linestep.jax._checks import check_function, check_parameters
 from linestep.jax._directions import LBFGSDirection, SteepestDirection, steepest_descent
 from linestep.jax._line import value_and_gradient
 from linestep.jax._records import CompiledRun, Reason
@@ -76,8 +77,7 @@ def descend(fun: Any, x0: Any, *, search: Any = None, direction: Any = None,
     """
     search = armijo() if search is None else search
     direction = steepest_descent() if direction is None else direction
-    if not callable(fun):
-        raise TypeError(f"`fun` must be a callable f(x) -> scalar; got {fun!r}.")
+    check_function(fun)
     if not isinstance(search, CompiledSearch):
         raise TypeError(
             "`search` must be a compiled search from linestep.jax, such as "
@@ -90,10 +90,8 @@ def descend(fun: Any, x0: Any, *, search: Any = None, direction: Any = None,
         )
     max_iterations = _validate.integer("max_iterations", max_iterations, minimum=0)
     atol = _validate.nonnegative("gradient_atol", gradient_atol)
-    rtol = _validate.real("gradient_rtol", gradient_rtol)
-    if not 0.0 <= rtol < 1.0:
-        raise ValueError(f"`gradient_rtol` must satisfy 0 <= gradient_rtol < 1; got {rtol!r}.")
-    _tree.check_parameters(x0)
+    rtol = stopping._relative("gradient_rtol", gradient_rtol)  # as GradientNorm's rtol
+    check_parameters(x0)
     try:
         hash((fun, search, direction))
     except TypeError:

@@ -7,7 +7,9 @@ from typing import Any
 import numpy as np
 
 import jax
+from linestep import _validate
 from linestep._objective import Objective
+from linestep.jax._checks import check_function
 
 
 def objective(fun: Any, *, fused: bool = True) -> Objective:
@@ -46,11 +48,8 @@ def objective(fun: Any, *, fused: bool = True) -> Objective:
     >>> step.evaluations
     Evaluations(values=2, gradients=2)
     """
-    if not callable(fun):
-        raise TypeError(f"`fun` must be a callable f(x) -> scalar; got {fun!r}.")
-    if not isinstance(fused, bool):
-        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
-    if fused:
+    check_function(fun)
+    if _validate.flag("fused", fused):
         both = jax.jit(jax.value_and_grad(fun))
 
         def value_and_gradient(x: Any) -> tuple[Any, Any]:

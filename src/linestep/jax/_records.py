@@ -3,7 +3,9 @@
 All records are frozen dataclasses registered as JAX pytrees, so they pass
 through `jax.jit`, `jax.vmap` and `lax` loops. Array fields are leaves; the
 parameter structure a state was built for is static metadata, compared in
-Python while JAX traces (see `_tree.check_state`).
+Python while JAX traces (see `_checks.check_state`). `Rebuildable` gives the
+frozen option objects (searches, directions, initial strategies) the repr of
+the call that rebuilds them.
 """
 
 from __future__ import annotations
@@ -69,6 +71,23 @@ class Reason(enum.IntEnum):
         return Kind.failed
 
 
+class Rebuildable:
+    """repr prints the call that rebuilds the object: ``_factory(field=value, ...)``.
+
+    For frozen dataclasses of options (declare them with ``repr=False``), so
+    that ``eval(repr(obj))`` gives an equal, equally hashable object.
+    """
+
+    #: The name to call: the factory in `linestep.jax`, or the host strategy class.
+    _factory = ""
+    #: Options shown, in order (each is an attribute).
+    _fields: tuple[str, ...] = ()
+
+    def __repr__(self) -> str:
+        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
+        return f"{self._factory}({arguments})"
+
+
 def _static() -> Any:
     return field(default=None, metadata={"static": True})
 
@@ -82,20 +101,20 @@ class SearchState:
     ----------
     previous_size : scalar array
         The last accepted step size, NaN before the first (for ``initial`` strategies).
-    previous_value, previous_slope : scalar arrays
-        f(x) and φ'(0) at the start of that call, NaN before the first.
+    previous_value : scalar array
+        f(x) at the start of that call, NaN before the first.
     calls : int32 array
-        Calls that reached the search (not those answered with ``not_descent``).
+        Calls that reached the search (not those answered with ``not_descent``);
+        the counter k of `schedule`.
     method : pytree or None
-        Method-specific memory (the schedule's counter, the Barzilai–Borwein pair,
-        the nonmonotone reference values).
+        Method-specific memory (the Barzilai–Borwein pair, the nonmonotone
+        reference values).
     structure : PyTreeDef, static
         The parameter structure this state was built for.
     """
 
     previous_size: Any
     previous_value: Any
-    previous_slope: Any
     calls: Any
     method: Any = None
     structure: Any = _static()

@@ -32,9 +32,9 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
-from linestep.jax import _initial, _tree
+from linestep.jax import _checks, _initial, _tree
 from linestep.jax._line import INF, Line, Point, scalar_value, value_and_gradient
-from linestep.jax._records import CompiledStep, SearchState, StatusCode
+from linestep.jax._records import CompiledStep, Rebuildable, SearchState, StatusCode
 
 ACCEPTED = int(StatusCode.accepted)
 MAX_EVALUATIONS = int(StatusCode.max_evaluations)
@@ -45,30 +45,32 @@ INTERVAL_TOO_SMALL = int(StatusCode.interval_too_small)
 STEP_TOO_LARGE = int(StatusCode.step_too_large)
 
 
-def code(value: int) -> Any:
-    """A status code as an int32 array."""
-    return jnp.asarray(value, jnp.int32)
+def guarded_step(line: Line, size: Any, active: Any, usable: Any = True) -> tuple:
+    """The hook's result for a rule that does not search: one evaluation at `size`.
+
+    Nothing is evaluated when not `active`. The status is ``accepted``, or
+    ``non_finite`` (no point to move to) when f is not finite there or the size
+    is not `usable`.
+    """
+    point, tally = jax.lax.cond(active, lambda: line.evaluate(size, line.start()),
+                                lambda: (line.origin(), line.start()))
+    good = usable & (point.value < INF)
+    status = jnp.where(good, ACCEPTED, NON_FINITE).astype(jnp.int32)
+    return point, good, status, tally
 
 
-class CompiledSearch:
+class CompiledSearch(Rebuildable):
     """Base class of the compiled searches; see the module docstring for the contract.
 
-    Subclasses are frozen dataclasses of their options, so that a search is
+    Subclasses are frozen dataclasses of their options (``repr=False``: the repr
+    is the factory call from `_factory` and `_fields`), so that a search is
     hashable and can be a static argument of `jax.jit`.
     """
 
-    #: Name of the factory function in `linestep.jax`, for the repr.
-    _factory = ""
-    #: Options shown by repr, in order (each is an attribute).
-    _fields: tuple[str, ...] = ()
     #: Every trial evaluates ∇f (Wolfe needs φ'(t)), whatever `fused` says.
     _needs_slope = False
     #: Keep the best sufficient-decrease point for failure returns.
     _track_best = False
-
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{self._factory}({arguments})"
 
     # -- what a subclass provides ------------------------------------------------
     @property
@@ -86,7 +88,7 @@ class CompiledSearch:
     def _begin_method(self, x: Any, dtype: Any) -> Any:
         return None
 
-    def _usable(self, line: Line, state: SearchState) -> Any:
+    def _usable(self, line: Line) -> Any:
         """False where this search cannot use the direction (beyond φ'(0) >= 0)."""
         return jnp.ones((), bool)
 
@@ -107,10 +109,10 @@ class CompiledSearch:
         SearchState
             Pass it to the first `step`, then pass each step's ``state`` on.
         """
-        structure = _tree.check_parameters(x)
+        structure = _checks.check_parameters(x)
         dtype = _tree.scalar_dtype(x)
         nan = jnp.full((), jnp.nan, dtype)
-        return SearchState(previous_size=nan, previous_value=nan, previous_slope=nan,
+        return SearchState(previous_size=nan, previous_value=nan,
                            calls=jnp.zeros((), jnp.int32),
                            method=self._begin_method(x, dtype), structure=structure)
 
@@ -141,18 +143,11 @@ class CompiledSearch:
             While tracing, when `state`, `direction` or `gradient` does not match
             the structure of `x`.
         """
-        if not callable(fun):
-            raise TypeError(f"`fun` must be a callable f(x) -> scalar; got {fun!r}.")
-        structure = _tree.check_parameters(x)
-        if not isinstance(state, SearchState):
-            raise TypeError(
-                "`state` must be the SearchState from begin(x) or from the previous "
-                f"step's `.state`; got {type(state).__name__}."
-            )
-        _tree.check_state("state", state.structure, structure)
-        _tree.check_like("direction", direction, x, structure)
+        _checks.check_function(fun)
+        structure = _checks.check_state(state, SearchState, x, returned_by="step")
+        _checks.check_like("direction", direction, x, structure)
         if gradient is not None:
-            _tree.check_like("gradient", gradient, x, structure)
+            _checks.check_like("gradient", gradient, x, structure)
             gradient = _tree.like(gradient, x)
         direction = _tree.like(direction, x)
         value, gradient, values, gradients = self._complete_origin(fun, x, value, gradient)
@@ -161,7 +156,7 @@ class CompiledSearch:
         f0, d0 = line.value, line.slope
         finite = jnp.isfinite(f0) & jnp.isfinite(d0)
         stationary = finite & (d0 == 0) & (_tree.max_abs(gradient) == 0)
-        usable = self._usable(line, state)
+        usable = self._usable(line)
         active = finite & (d0 < 0) & usable
         first = _initial.first_trial(self._initial, state, line)
         point, has_point, status, tally, method = self._search(line, first, active, state)
@@ -215,7 +210,6 @@ class CompiledSearch:
         new_state = SearchState(
             previous_size=jnp.where(remember, size, state.previous_size),
             previous_value=jnp.where(remember, f0, state.previous_value),
-            previous_slope=jnp.where(remember, line.slope, state.previous_slope),
             calls=state.calls + active.astype(jnp.int32),
             method=_tree.select(active, method, state.method),
             structure=state.structure,

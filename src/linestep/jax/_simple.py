@@ -18,42 +18,35 @@ from typing import Any
 
 import jax.numpy as jnp
 
-import jax
 from linestep import _validate
-from linestep.jax._line import INF, Line
-from linestep.jax._search import ACCEPTED, NON_FINITE, CompiledSearch
+from linestep.jax._line import Line
+from linestep.jax._search import CompiledSearch, guarded_step
+from linestep.rules.fixed import Fixed
 
 
 @dataclass(frozen=True, eq=True, repr=False)
 class ScheduledSearch(CompiledSearch):
-    """A step size from a traceable function of the call counter k (constant for `fixed`)."""
+    """A step size from a traceable function of the call counter k (constant for `fixed`).
+
+    k is the state's `calls`: the calls that reached the rule.
+    """
 
     function: Any
     label: str
     fused: bool = True
-    _factory = "schedule"
 
     def __repr__(self) -> str:
         return self.label
 
-    def _begin_method(self, x: Any, dtype: Any) -> Any:
-        return jnp.zeros((), jnp.int32)  # k, the calls that reached the rule
-
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
-        k = state.method
-        size = jnp.asarray(self.function(k), line.dtype)
+        size = jnp.asarray(self.function(state.calls), line.dtype)
         if jnp.shape(size) != ():
             raise TypeError(
                 f"The schedule must return a scalar size for the counter k; got shape "
                 f"{jnp.shape(size)}."
             )
         usable = jnp.isfinite(size) & (size > 0)
-        # One guard evaluation, made only when the call is active.
-        point, tally = jax.lax.cond(active, lambda: line.evaluate(size, line.start()),
-                                    lambda: (line.origin(), line.start()))
-        good = usable & (point.value < INF)
-        status = jnp.where(good, ACCEPTED, NON_FINITE).astype(jnp.int32)
-        return point, good, status, tally, k + 1
+        return *guarded_step(line, size, active, usable), state.method
 
 
 def fixed(size: float, *, fused: bool = True) -> ScheduledSearch:
@@ -87,10 +80,9 @@ def fixed(size: float, *, fused: bool = True) -> ScheduledSearch:
     >>> float(out.x[0]), float(out.value)
     (1.0, 1.0)
     """
-    size = _validate.positive("size", size)
-    if not isinstance(fused, bool):
-        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
-    return ScheduledSearch(function=_Constant(size), label=f"fixed({size!r})", fused=fused)
+    size = Fixed(size).size
+    return ScheduledSearch(function=_Constant(size), label=f"fixed({size!r})",
+                           fused=_validate.flag("fused", fused))
 
 
 def schedule(function: Any, *, fused: bool = True) -> ScheduledSearch:
@@ -136,9 +128,8 @@ def schedule(function: Any, *, fused: bool = True) -> ScheduledSearch:
             "`function` must be a traceable callable k -> size, such as "
             f"`lambda k: 0.1 * 0.9 ** k`; got {function!r}."
         )
-    if not isinstance(fused, bool):
-        raise TypeError(f"`fused` must be True or False; got {fused!r}.")
-    return ScheduledSearch(function=function, label=f"schedule({function!r})", fused=fused)
+    return ScheduledSearch(function=function, label=f"schedule({function!r})",
+                           fused=_validate.flag("fused", fused))
 
 
 @dataclass(frozen=True)

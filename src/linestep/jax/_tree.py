@@ -1,10 +1,9 @@
-"""Arithmetic on parameter pytrees, and the structure checks made at trace time.
+"""Arithmetic on parameter pytrees.
 
 Parameters may be any pytree of floating arrays (a dict of weight matrices, a
 list of vectors, one flat array). Inner products are accumulated leaf by leaf,
 in each leaf's dtype, and summed; nothing is raveled, so no copy of the
-parameters is made. The checks below run in Python while JAX traces, so a
-mismatch raises at once, naming the argument, instead of failing inside XLA.
+parameters is made. The checks of their structure are in `linestep.jax._checks`.
 """
 
 from __future__ import annotations
@@ -18,7 +17,6 @@ import jax
 
 tree_map = jax.tree_util.tree_map
 tree_leaves = jax.tree_util.tree_leaves
-tree_structure = jax.tree_util.tree_structure
 
 
 def vdot(a: Any, b: Any) -> jax.Array:
@@ -88,46 +86,3 @@ def epsilon(x: Any) -> float:
     """Machine epsilon of the scalar dtype of `x`."""
     return float(np.finfo(scalar_dtype(x)).eps)
 
-
-# ---------------------------------------------------------------- trace-time checks
-
-
-def check_parameters(x: Any) -> Any:
-    """Return the tree structure of `x` after checking that its leaves are real floats."""
-    leaves, structure = jax.tree_util.tree_flatten(x)
-    if not leaves:
-        raise ValueError(f"`x` must hold at least one array; got the empty pytree {x!r}.")
-    for leaf in leaves:
-        dtype = getattr(leaf, "dtype", None)
-        if dtype is None or not jnp.issubdtype(dtype, jnp.floating):
-            raise TypeError(
-                f"Every leaf of `x` must be a floating-point array; got a leaf of dtype "
-                f"{dtype}. Convert the parameters, e.g. with jnp.asarray(x, jnp.float32)."
-            )
-    return structure
-
-
-def check_like(name: str, tree: Any, x: Any, structure: Any) -> None:
-    """Raise ValueError naming `name` unless `tree` has the structure and leaf shapes of `x`."""
-    got = tree_structure(tree)
-    if got != structure:
-        raise ValueError(
-            f"`{name}` must have the pytree structure of `x`; got {got} for `{name}` and "
-            f"{structure} for `x`."
-        )
-    for a, b in zip(tree_leaves(tree), tree_leaves(x), strict=True):
-        if jnp.shape(a) != jnp.shape(b):
-            raise ValueError(
-                f"`{name}` must have the leaf shapes of `x`; got a leaf of shape "
-                f"{jnp.shape(a)} where `x` has {jnp.shape(b)}."
-            )
-
-
-def check_state(name: str, built_for: Any, structure: Any) -> None:
-    """Raise ValueError when a state built by ``begin`` for other parameters is reused."""
-    if built_for != structure:
-        raise ValueError(
-            f"`{name}` was built by begin() for parameters of structure {built_for}, but "
-            f"`x` has structure {structure}. Call begin(x) on the new parameters to get a "
-            "fresh state."
-        )

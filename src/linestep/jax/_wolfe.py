@@ -47,10 +47,6 @@ _RUNNING, _ACCEPTED, _ZOOM_FROM_PREVIOUS, _ZOOM_FROM_POINT, _TOO_LARGE, _COLLAPS
     _SPENT = range(7)
 
 
-def _int(value: Any) -> Any:
-    return jnp.asarray(value, jnp.int32)
-
-
 @dataclass(frozen=True, eq=True, repr=False)
 class WolfeSearch(CompiledSearch):
     c1: float
@@ -114,7 +110,7 @@ class WolfeSearch(CompiledSearch):
 
         size = jnp.where(first < max_size, first, max_size).astype(line.dtype)
         origin = line.origin()
-        start = (_int(_RUNNING), size, _ends(origin), origin, line.start())
+        start = (jnp.asarray(_RUNNING, jnp.int32), size, _ends(origin), origin, line.start())
         outcome, _, previous, point, tally = jax.lax.while_loop(keep_going, trial, start)
         outcome = jnp.where(outcome == _RUNNING, _SPENT, outcome).astype(jnp.int32)
         return outcome, previous, point, tally

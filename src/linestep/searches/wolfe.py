@@ -131,9 +131,7 @@ class Wolfe(StepController):
                  max_evaluations: int = 40, record_trials: bool = False) -> None:
         super().__init__()
         self.c1, self.c2 = _validate.curvature_pair(c1, c2)
-        if not isinstance(strong, bool):
-            raise TypeError(f"`strong` must be True or False; got {strong!r}.")
-        self.strong = strong
+        self.strong = _validate.flag("strong", strong)
         self.initial = _initial.resolve(initial)
         self.expand = _validate.within("expand", expand, 1.0, INF)  # > 1: trials grow
         self.max_size = _validate.positive("max_size", max_size)

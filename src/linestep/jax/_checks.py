@@ -1,0 +1,74 @@
+"""The argument checks of `linestep.jax`, made in Python (at construction or while JAX traces).
+
+Number-valued options are checked by building the host class (see each
+factory), or with `linestep._validate`; what is here is particular to the
+compiled path: flags, the user's function, and the structure of parameter
+pytrees and states. A structure check runs while JAX traces, so a mismatch
+raises at once, naming the argument, instead of failing inside XLA.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import jax.numpy as jnp
+
+import jax
+
+
+def check_function(fun: Any) -> None:
+    """Raise TypeError unless `fun` is callable (the objective f)."""
+    if not callable(fun):
+        raise TypeError(f"`fun` must be a callable f(x) -> scalar; got {fun!r}.")
+
+
+def check_parameters(x: Any) -> Any:
+    """Return the tree structure of `x` after checking that its leaves are real floats."""
+    leaves, structure = jax.tree_util.tree_flatten(x)
+    if not leaves:
+        raise ValueError(f"`x` must hold at least one array; got the empty pytree {x!r}.")
+    for leaf in leaves:
+        dtype = getattr(leaf, "dtype", None)
+        if dtype is None or not jnp.issubdtype(dtype, jnp.floating):
+            raise TypeError(
+                f"Every leaf of `x` must be a floating-point array; got a leaf of dtype "
+                f"{dtype}. Convert the parameters, e.g. with jnp.asarray(x, jnp.float32)."
+            )
+    return structure
+
+
+def check_like(name: str, tree: Any, x: Any, structure: Any) -> None:
+    """Raise ValueError naming `name` unless `tree` has the structure and leaf shapes of `x`."""
+    got = jax.tree_util.tree_structure(tree)
+    if got != structure:
+        raise ValueError(
+            f"`{name}` must have the pytree structure of `x`; got {got} for `{name}` and "
+            f"{structure} for `x`."
+        )
+    for a, b in zip(jax.tree_util.tree_leaves(tree), jax.tree_util.tree_leaves(x), strict=True):
+        if jnp.shape(a) != jnp.shape(b):
+            raise ValueError(
+                f"`{name}` must have the leaf shapes of `x`; got a leaf of shape "
+                f"{jnp.shape(a)} where `x` has {jnp.shape(b)}."
+            )
+
+
+def check_state(state: Any, kind: type, x: Any, *, returned_by: str) -> Any:
+    """Return the structure of `x` after checking that `state` is a `kind` built for it.
+
+    `returned_by` names the record whose ``.state`` the caller passes on
+    (``"step"``, ``"proposal"``), for the message.
+    """
+    structure = check_parameters(x)
+    if not isinstance(state, kind):
+        raise TypeError(
+            f"`state` must be the {kind.__name__} from begin(x) or from the previous "
+            f"{returned_by}'s `.state`; got {type(state).__name__}."
+        )
+    if state.structure != structure:
+        raise ValueError(
+            f"`state` was built by begin() for parameters of structure {state.structure}, "
+            f"but `x` has structure {structure}. Call begin(x) on the new parameters to get "
+            "a fresh state."
+        )
+    return structure
