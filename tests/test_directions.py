@@ -15,7 +15,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from _problems import random_spd
-from linestep import Armijo, descend, stopping
+from linestep import Armijo, Wolfe, descend, stopping
+from linestep.bench.problems import get_problem
 from linestep.directions import (
     LBFGS,
     POWELL_ORTHOGONALITY,
@@ -99,7 +100,7 @@ def test_repr_rebuilds_the_call(direction):
 
 
 def test_default_reprs():
-    assert repr(LBFGS()) == "LBFGS(memory=10, curvature_tolerance=1e-08, scale_first=True)"
+    assert repr(LBFGS()) == "LBFGS(memory=10, curvature_tolerance=None, scale_first=True)"
     assert repr(NonlinearCG()) == (
         "NonlinearCG(beta='hager_zhang', eta=0.01, restart_every=None, "
         "orthogonality_restart=None)"
@@ -235,6 +236,40 @@ def test_skip_rule_threshold_is_the_cosine_between_s_and_y():
         direction(np.array([1.0, 0.0]), np.array([-1.0 + c, 1.0]))
         assert direction.stored == int(kept)
         assert direction.skipped == int(not kept)
+
+
+@pytest.mark.parametrize("dtype, cosine, kept", [
+    (np.float64, 1e-9, True),    # valid curvature of a badly conditioned problem
+    (np.float64, 1e-17, False),  # orthogonal to float64 precision (eps 2.2e-16)
+    (np.float32, 1e-5, True),
+    (np.float32, 1e-8, False),   # orthogonal to float32 precision (eps 1.2e-7)
+])
+def test_default_skip_floor_is_the_dtypes_machine_epsilon(dtype, cosine, kept):
+    # s = (1, 0); y = (c, 1): cos(s, y) ≈ c for small c.
+    direction = LBFGS()
+    direction(np.zeros(2, dtype), np.array([-1.0, 0.0], dtype))
+    direction(np.array([1.0, 0.0], dtype), np.array([-1.0 + cosine, 1.0], dtype))
+    # −1 + c rounds in the dtype; the test needs c itself to survive.
+    assert np.array([-1.0 + cosine], dtype)[0] != -1.0 or not kept
+    assert direction.stored == int(kept) and direction.skipped == int(not kept)
+
+
+def test_badly_scaled_problem_keeps_its_curvature_pairs():
+    # Powell's badly scaled function (MGH problem 3) has Hessian condition ≈ 7e17 at
+    # its minimiser, so valid pairs have cos(s, y) down to ≈ 2/√κ ≈ 2.4e-9 (the
+    # Kantorovich bound). The default floor keeps every pair; a fixed 1e-8 floor
+    # (this library's default before) loses most of them and needs far more iterations.
+    problem = get_problem("powell_badly_scaled")
+    runs = {}
+    for tolerance in (None, 1e-8):
+        direction = LBFGS(10, curvature_tolerance=tolerance)
+        run = descend((problem.value, problem.gradient), problem.start, controller=Wolfe(),
+                      direction=direction, stop=stopping.GradientNorm(atol=1e-8, rtol=0.0)
+                      | stopping.MaxIterations(5000))
+        assert run.converged and problem.solved(run.value, rtol=1e-4)
+        runs[tolerance] = (direction.skipped, run.iterations)
+    assert runs[None][0] == 0
+    assert runs[1e-8][0] > 100 and runs[1e-8][1] > 2 * runs[None][1]
 
 
 def test_skipped_pair_leaves_the_older_pairs_in_use():

@@ -20,9 +20,6 @@ from linestep import _array, _validate
 
 __all__ = ["LBFGS", "Direction", "NonlinearCG", "SteepestDescent"]
 
-# Default cosine floor for keeping an L-BFGS pair: skip unless sᵀy > tol·‖s‖·‖y‖
-# (common practice; the same scale-free form as the SR1 safeguard, N&W eq. 6.26).
-DEFAULT_CURVATURE_TOLERANCE = 1e-8
 # Hager–Zhang truncation constant η in η_k = −1/(‖d‖·min(η, ‖g_prev‖)) (HZ 2005 use 0.01).
 DEFAULT_HZ_ETA = 0.01
 # Powell's (1977) restart threshold ν in |g_kᵀg_{k−1}| ≥ ν·‖g_k‖², recalled from memory;
@@ -152,10 +149,16 @@ class LBFGS(_Rebuildable):
       driver; common practice). On badly scaled starts the raw −∇f sends the unit
       trial far away, often into another basin.
     * A pair is *skipped* when sᵀy ≤ `curvature_tolerance`·‖s‖·‖y‖, i.e. when the
-      cosine between s and y is not safely positive; BFGS needs sᵀy > 0 to keep H
-      positive definite (N&W eq. 6.7). Skipping is common practice; this
-      scale-free form mirrors the SR1 safeguard of N&W eq. 6.26. A search that
-      enforces the curvature condition (Wolfe) guarantees sᵀy > 0; Armijo does not.
+      cosine between s and y is not positive to working precision; BFGS needs
+      sᵀy > 0 to keep H positive definite (N&W eq. 6.7). Skipping is common
+      practice; the scale-free form mirrors the SR1 safeguard of N&W eq. 6.26. A
+      search that enforces the curvature condition (Wolfe) guarantees sᵀy > 0;
+      Armijo does not. The default floor is the machine epsilon of x's dtype, not
+      a fixed 1e-8: on a quadratic with Hessian condition number κ the cosine
+      between s and y = H·s can be as small as 2√κ/(1 + κ) (the Kantorovich
+      bound), and badly scaled problems reach κ ≈ 1e18 (Powell's badly scaled
+      function at its minimiser, MGH problem 3), where a floor of 1e-8 rejects
+      most of the valid pairs and L-BFGS slows to a crawl.
     * When x did not move (s = 0, a rejected step), nothing is updated and the
       same H is applied to the gradient given.
     * When −H·∇f is not a descent direction (∇fᵀd ≥ 0) or not finite, the pairs
@@ -166,8 +169,9 @@ class LBFGS(_Rebuildable):
     memory : int
         Number of curvature pairs kept, >= 1 (3 to 20 is common practice,
         N&W §7.2).
-    curvature_tolerance : float
-        Cosine floor of the skip rule above, >= 0.
+    curvature_tolerance : float or None
+        Cosine floor of the skip rule above, >= 0; None (the default) uses the
+        machine epsilon of x's dtype (2.2e-16 for float64, 1.2e-7 for float32).
     scale_first : bool
         Scale the steepest-descent direction used while no pairs are stored.
 
@@ -195,7 +199,7 @@ class LBFGS(_Rebuildable):
     >>> from linestep.directions import LBFGS
     >>> direction = LBFGS(memory=5)
     >>> direction
-    LBFGS(memory=5, curvature_tolerance=1e-08, scale_first=True)
+    LBFGS(memory=5, curvature_tolerance=None, scale_first=True)
 
     On f(x) = ½·xᵀ·diag(1, 4)·x the first call scales −∇f to unit length, and
     the first pair gives γ = sᵀy/yᵀy:
@@ -211,12 +215,14 @@ class LBFGS(_Rebuildable):
     _fields = ("memory", "curvature_tolerance", "scale_first")
 
     def __init__(self, memory: int = 10, *,
-                 curvature_tolerance: float = DEFAULT_CURVATURE_TOLERANCE,
+                 curvature_tolerance: float | None = None,
                  scale_first: bool = True) -> None:
         self.scale_first = bool(scale_first)
         self.memory = _validate.integer("memory", memory, minimum=1)
-        self.curvature_tolerance = _validate.nonnegative("curvature_tolerance",
-                                                         curvature_tolerance)
+        if curvature_tolerance is not None:
+            curvature_tolerance = _validate.nonnegative("curvature_tolerance",
+                                                        curvature_tolerance)
+        self.curvature_tolerance = curvature_tolerance
         self.reset()
 
     def reset(self) -> None:
@@ -263,6 +269,7 @@ class LBFGS(_Rebuildable):
         self._s = np.zeros((self.memory, size), dtype=dtype)
         self._y = np.zeros((self.memory, size), dtype=dtype)
         self._rho = np.zeros(self.memory, dtype=dtype)
+        self._floor = skip_floor(self.curvature_tolerance, dtype)
         self.stored = 0
         self._newest = -1
 
@@ -271,7 +278,7 @@ class LBFGS(_Rebuildable):
             return  # x did not move: no new curvature information
         curvature = float(s @ y)
         s_norm, y_norm = math.sqrt(float(s @ s)), math.sqrt(float(y @ y))
-        if not (curvature > self.curvature_tolerance * s_norm * y_norm
+        if not (curvature > self._floor * s_norm * y_norm
                 and math.isfinite(curvature) and math.isfinite(s_norm * y_norm)):
             self.skipped += 1
             return
@@ -292,6 +299,11 @@ class LBFGS(_Rebuildable):
         s, y = self._s[newest], self._y[newest]
         gamma = float(s @ y) / float(y @ y)
         return _two_loop(g, self._s, self._y, self._rho, self._order(), gamma)
+
+
+def skip_floor(tolerance: float | None, dtype: Any) -> float:
+    """The L-BFGS skip rule's cosine floor: `tolerance`, or the dtype's machine epsilon."""
+    return float(np.finfo(dtype).eps) if tolerance is None else tolerance
 
 
 def _two_loop(g: np.ndarray, s: np.ndarray, y: np.ndarray, rho: np.ndarray,

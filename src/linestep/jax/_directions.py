@@ -24,7 +24,7 @@ import jax.numpy as jnp
 
 import jax
 from linestep import _validate
-from linestep.directions import DEFAULT_CURVATURE_TOLERANCE, LBFGS
+from linestep.directions import LBFGS, skip_floor
 from linestep.jax import _tree
 from linestep.jax._checks import check_like, check_parameters, check_state
 from linestep.jax._records import DirectionState, Proposal, Rebuildable
@@ -75,7 +75,7 @@ class Pairs:
 @dataclass(frozen=True, repr=False)
 class LBFGSDirection(Rebuildable):
     memory: int
-    curvature_tolerance: float
+    curvature_tolerance: float | None
     scale_first: bool
     _factory = "lbfgs"
     _fields = ("memory", "curvature_tolerance", "scale_first")
@@ -160,7 +160,8 @@ class LBFGSDirection(Rebuildable):
         moved = pairs.has_previous & _tree.any_nonzero(s)
         curvature = _tree.vdot(s, y)
         norms = jnp.sqrt(_tree.vdot(s, s)) * jnp.sqrt(_tree.vdot(y, y))
-        good = ((curvature > self.curvature_tolerance * norms) & jnp.isfinite(curvature)
+        floor = skip_floor(self.curvature_tolerance, pairs.rho.dtype)
+        good = ((curvature > floor * norms) & jnp.isfinite(curvature)
                 & jnp.isfinite(norms))
         store = moved & good
         slot = (pairs.newest + 1) % self.memory
@@ -227,7 +228,7 @@ def steepest_descent() -> SteepestDirection:
     return SteepestDirection()
 
 
-def lbfgs(memory: int = 10, *, curvature_tolerance: float = DEFAULT_CURVATURE_TOLERANCE,
+def lbfgs(memory: int = 10, *, curvature_tolerance: float | None = None,
           scale_first: bool = True) -> LBFGSDirection:
     """Compiled limited-memory BFGS directions: the twin of `linestep.directions.LBFGS`.
 
@@ -242,8 +243,9 @@ def lbfgs(memory: int = 10, *, curvature_tolerance: float = DEFAULT_CURVATURE_TO
     ----------
     memory : int
         Pairs kept, >= 1.
-    curvature_tolerance : float
-        Cosine floor of the skip rule, >= 0.
+    curvature_tolerance : float or None
+        Cosine floor of the skip rule, >= 0; None (the default) uses the machine
+        epsilon of the parameters' dtype, as on the host.
     scale_first : bool
         Scale the steepest-descent direction used while no pair is stored.
 
