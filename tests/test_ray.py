@@ -184,12 +184,27 @@ def test_float32_points_stay_float32():
     assert ray.value(0.25).x.dtype == np.float32
 
 
-def test_sufficient_decrease_without_a_slope_is_plain_decrease():
-    objective = Objective(square)
+def test_best_without_a_slope_is_plain_decrease():
     origin = Point(0.0, X, 25.0, None, None)
-    ray = Ray(objective, origin, D, max_evaluations=5)
-    assert ray.sufficient_decrease(ray.value(0.1), 0.5)  # φ = 16 < 25
-    assert not ray.sufficient_decrease(ray.value(1.0), 0.5)  # φ = 25, not below
+    ray = Ray(Objective(square), origin, D, max_evaluations=5, c1=0.5)
+    assert ray.value(1.0).value == 25.0 and ray.best is None  # not below φ(0) = 25
+    assert ray.value(0.1) is ray.best  # φ = 16 < 25
+
+
+def test_no_best_without_a_start_value():
+    origin = Point(0.0, X, None, None, None)
+    ray = Ray(Objective(square), origin, D, max_evaluations=5, c1=0.5)
+    ray.value(0.1)
+    assert ray.best is None
+
+
+def test_best_needs_a_decrease_beyond_rounding():
+    # φ(t) = 1 + 1e-17·(t − 1): every trial rounds to φ(0) = 1 (the sum form would
+    # accept it), so no point shows the required decrease c1·t·φ'(0) < 0.
+    objective = Objective(lambda x: 1.0 + 1e-17 * float(x[0]))
+    origin = Point(0.0, np.array([0.0]), 1.0, np.array([1e-17]), -1e-17)
+    ray = Ray(objective, origin, np.array([-1.0]), max_evaluations=5, c1=1e-4)
+    assert ray.value(1.0).value == 1.0 and ray.best is None
 
 
 def _saturating():

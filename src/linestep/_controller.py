@@ -24,6 +24,7 @@ implementers:
 from __future__ import annotations
 
 import math
+from math import isfinite
 from typing import Any
 
 import numpy as np
@@ -39,15 +40,6 @@ _ACCEPTED = Status.accepted
 _ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
 # Evaluations records are immutable, so the common small counts are shared.
 _EVALUATIONS = {(v, g): Evaluations(values=v, gradients=g) for v in range(32) for g in range(32)}
-
-
-def _evaluations(values: int, gradients: int) -> Evaluations:
-    record = _EVALUATIONS.get((values, gradients))
-    if record is None:
-        record = Evaluations(values=values, gradients=gradients)
-    return record
-
-
 # Step is a frozen slots dataclass; writing its slots directly skips the
 # object.__setattr__ round trip of the generated __init__ (about 0.5 us per call).
 _STEP_SLOTS = tuple(getattr(Step, name).__set__ for name in (
@@ -55,15 +47,19 @@ _STEP_SLOTS = tuple(getattr(Step, name).__set__ for name in (
 _new = object.__new__
 
 
-def _step(size: float, x: Any, value: Any, gradient: Any, evaluations: Evaluations,
-          status: Status, message: str, trials: Any) -> Step:
+def _step(point: Point, values: int, gradients: int, status: Status, message: str,
+          trials: Any) -> Step:
+    """The Step moving to `point` (the origin for x unchanged) after that many evaluations."""
+    evaluations = _EVALUATIONS.get((values, gradients))
+    if evaluations is None:
+        evaluations = Evaluations(values=values, gradients=gradients)
     step = _new(Step)
     set_size, set_x, set_value, set_gradient, set_evaluations, set_status, set_message, \
         set_trials = _STEP_SLOTS
-    set_size(step, size)
-    set_x(step, x)
-    set_value(step, value)
-    set_gradient(step, gradient)
+    set_size(step, point.size)
+    set_x(step, point.x)
+    set_value(step, point.value)
+    set_gradient(step, point.gradient)
     set_evaluations(step, evaluations)
     set_status(step, status)
     set_message(step, message)
@@ -114,14 +110,15 @@ class StepController:
         start_values, start_gradients = objective.values, objective.gradients
         if (value is not None
                 and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
-                and x.ndim == 1 and x.dtype is direction.dtype is gradient.dtype
-                and x.dtype.kind == "f" and x.shape == direction.shape == gradient.shape):
+                and x.ndim == direction.ndim == gradient.ndim == 1
+                and x.dtype is direction.dtype is gradient.dtype and x.dtype.kind == "f"
+                and len(x) == len(direction) == len(gradient)):
             # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
             # A finite x·x, g·d and f prove x, g, d and f finite (`_array.all_finite`'s
-            # test, inlined; `_check_slope`).
+            # test, inlined; `_check_slope`). (len, unlike shape, builds no tuple.)
             slope = float(gradient.dot(direction))
             value = float(value)
-            if math.isfinite(slope) and math.isfinite(value) and math.isfinite(float(x.dot(x))):
+            if isfinite(slope) and isfinite(value) and isfinite(x.dot(x)):
                 origin = Point(0.0, x, value, gradient, slope)
             else:
                 origin = self._origin(objective, *_check_point_and_direction(x, direction),
@@ -135,7 +132,9 @@ class StepController:
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
         try:
-            outcome = self._search(ray, self._first_trial(ray))
+            initial = self.initial  # a constant first trial skips the strategy call
+            outcome = self._search(ray, initial.size if initial.__class__ is _CONSTANT
+                                   else self._first_trial(ray))
         except BudgetSpent:
             outcome = (ray.best, Status.max_evaluations)
         return self._finish(ray, outcome, start_values, start_gradients)
@@ -162,11 +161,12 @@ class StepController:
         return 1.0
 
     def _remember(self, ray: Ray, point: Point | None, status: Status) -> None:
-        memory = self._memory
-        if point is not None and status is Status.accepted:
+        """Keep an accepted step for the initial-step strategies."""
+        if point is not None and status is _ACCEPTED:
+            memory, origin = self._memory, ray.origin
             memory.size = point.size
-            memory.start_value = ray.origin.value
-            memory.slope = ray.origin.slope
+            memory.start_value = origin.value
+            memory.slope = origin.slope
 
     # -- bookkeeping ---------------------------------------------------------------
     def _origin(self, objective: Objective, x: Any, direction: Any, value: Any,
@@ -193,7 +193,7 @@ class StepController:
                 raise ValueError("`direction` must be finite; it contains NaN or infinity.")
         else:
             slope = _array.dot(gradient, direction)
-            if not math.isfinite(slope):
+            if not isfinite(slope):
                 _check_slope(slope, gradient, direction, supplied)
         if value is not None:
             value = _check_value(value, supplied=True)
@@ -213,44 +213,43 @@ class StepController:
             raise _validate.not_negative_gradient(type(self).__name__)
         else:
             status, message = Status.not_descent, MESSAGES[Status.not_descent]
-        evaluations = _evaluations(objective.values - start_values,
-                                   objective.gradients - start_gradients)
-        return _step(0.0, origin.x, origin.value, origin.gradient, evaluations, status,
-                     message, () if self.record_trials else None)
+        return _step(origin, objective.values - start_values,
+                     objective.gradients - start_gradients, status, message,
+                     () if self.record_trials else None)
 
     def _finish(self, ray: Ray, outcome: tuple, start_values: int,
                 start_gradients: int) -> Step:
         point, status = outcome[0], outcome[1]
-        objective = ray.objective
-        if status is _ACCEPTED and point is not None and ray.trials is None \
-                and point.value < math.inf:
-            self._remember(ray, point, status)  # the lean path for the common outcome
-            return _step(point.size, point.x, point.value, point.gradient,
-                         _evaluations(objective.values - start_values,
-                                      objective.gradients - start_gradients),
-                         status, outcome[2] if len(outcome) > 2 else _ACCEPTED_MESSAGE, None)
         message = outcome[2] if len(outcome) > 2 else None
-        origin = ray.origin
-        if point is not None and (
-            not point.value < math.inf
-            or (status is not Status.accepted and origin.value is not None
-                and point.value > origin.value)
-        ):
-            # A failed search never moves the user's point to a worse or non-finite place.
-            point = None
-        if point is None and status is Status.accepted:
-            point = origin
-        if point is None and status is not Status.accepted and ray.count \
-                and not ray.finite_seen:
+        if status is not _ACCEPTED or point is None or not point.value < math.inf:
+            point, status = _settle(ray, point, status)
+        if status is _ACCEPTED:
+            self._remember(ray, point, status)
+            if message is None:
+                message = _ACCEPTED_MESSAGE
+        elif message is None:
+            message = MESSAGES[status]
+        objective, trials = ray.objective, ray.trials
+        return _step(point, objective.values - start_values,
+                     objective.gradients - start_gradients, status, message,
+                     None if trials is None else tuple(trials))
+
+
+def _settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Status]:
+    """The point to return and its status when the search did not simply accept a point."""
+    origin = ray.origin
+    if point is not None and (
+        not point.value < math.inf
+        or (status is not _ACCEPTED and origin.value is not None
+            and point.value > origin.value)
+    ):
+        # A failed search never moves the user's point to a worse or non-finite place.
+        point = None
+    if point is None:
+        if status is not _ACCEPTED and ray.count and not ray.finite_seen:
             status = Status.non_finite
-        self._remember(ray, point, status)
-        if point is None:
-            point = origin
-        evaluations = _evaluations(objective.values - start_values,
-                                   objective.gradients - start_gradients)
-        trials = tuple(ray.trials) if ray.trials is not None else None
-        return _step(point.size, point.x, point.value, point.gradient, evaluations, status,
-                     message or MESSAGES[status], trials)
+        point = origin
+    return point, status
 
 
 def _check_point_and_direction(x: Any, direction: Any) -> tuple[Any, Any]:
@@ -296,7 +295,7 @@ def _check_value(value: Any, *, supplied: bool) -> float:
     if supplied:
         return _validate.finite_scalar("value", value)
     value = float(value)
-    if not math.isfinite(value):
+    if not isfinite(value):
         raise ValueError(
             f"The objective's value at `x` must be finite; got {value!r}. Start from a "
             "point where f is defined."

@@ -15,6 +15,7 @@ Searches never call the user's functions: they ask the `Ray` for points. The ray
 from __future__ import annotations
 
 import math
+from math import isfinite
 from typing import Any
 
 import numpy as np
@@ -65,14 +66,15 @@ class Ray:
     max_evaluations : int
         Most points evaluated along the ray in this call.
     c1 : float
-        Sufficient-decrease constant used to track the best acceptable point.
+        Sufficient-decrease constant of the best point kept (`best`).
     record : bool
         Keep a `Trial` for each point.
     """
 
     __slots__ = (
-        "objective", "origin", "direction", "max_evaluations", "c1", "count", "best",
-        "trials", "non_finite", "_runner_up", "_last", "_rounding", "_precision",
+        "objective", "origin", "direction", "max_evaluations", "count", "best",
+        "trials", "non_finite", "_runner_up", "_last", "_rounding", "_precision", "_start",
+        "_decrease",
     )
 
     def __init__(self, objective: Objective, origin: Point, direction: Any,
@@ -81,7 +83,19 @@ class Ray:
         self.origin = origin
         self.direction = direction
         self.max_evaluations = max_evaluations
-        self.c1 = c1
+        # The best point is the lowest one with φ(t) − start ≤ t·decrease:
+        # * with φ'(0), Armijo's sufficient decrease φ(t) − φ(0) ≤ c1·t·φ'(0), written as
+        #   a difference so that a decrease below the float spacing of φ(0) is not
+        #   certified by rounding (φ(0) + tiny == φ(0));
+        # * without φ'(0), plain decrease φ(t) < φ(0): start is the float just below φ(0);
+        # * without φ(0), never (NaN compares false).
+        value, slope = origin.value, origin.slope
+        if value is None:
+            self._start, self._decrease = math.nan, 0.0
+        elif slope is None:
+            self._start, self._decrease = math.nextafter(value, -INF), 0.0
+        else:
+            self._start, self._decrease = value, c1 * slope
         self.count = 0
         self.best: Point | None = None
         self._runner_up: Point | None = None
@@ -104,7 +118,7 @@ class Ray:
         value = objective.value(x_new)
         # x + t·d can overflow for t > 1 while f stays finite there (a logistic loss is
         # 0 at +inf), so those trial points are checked too.
-        if not math.isfinite(value) or (size > 1.0 and not _array.all_finite(x_new)):
+        if not isfinite(value) or (size > 1.0 and not _array.all_finite(x_new)):
             self.non_finite += 1
             value = INF
         return self._store(Point(size, x_new, value, None, None))
@@ -122,11 +136,11 @@ class Ray:
         x_new = self._take(size)
         direction = self.direction
         value, gradient = objective.value_and_gradient(x_new)
-        if math.isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
+        if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
             slope = (float(gradient.dot(direction))
                      if gradient.__class__ is _NDARRAY and gradient.ndim == 1
                      else _array.dot(gradient, direction))
-            if math.isfinite(slope):
+            if isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
         self.non_finite += 1
         return self._store(Point(size, x_new, INF, gradient, None))
@@ -135,7 +149,7 @@ class Ray:
         """Add the gradient and slope to a point whose value is cached."""
         slope = _array.dot(gradient, self.direction)
         point.gradient = gradient
-        if math.isfinite(slope):
+        if isfinite(slope):
             point.slope = slope
         else:
             self.non_finite += 1  # the cached value was finite; the point no longer is
@@ -159,27 +173,13 @@ class Ray:
         if self.trials is not None:
             self.trials.append(Trial(size=point.size, value=point.value, slope=point.slope))
         value = point.value
-        if value < INF and self.sufficient_decrease(point, self.c1):
+        if value - self._start <= point.size * self._decrease:  # never true for INF
             best = self.best
             if best is None or value < best.value:
                 # Kept in case the new best's gradient turns out non-finite.
                 self._runner_up = best
                 self.best = point
         return point
-
-    # -- conditions shared by the searches -------------------------------------
-    def sufficient_decrease(self, point: Point, c1: float) -> bool:
-        """Armijo: φ(t) − φ(0) ≤ c1·t·φ'(0) (plain decrease when φ'(0) is unknown).
-
-        Written as a difference so that a decrease below the float spacing of φ(0)
-        is not certified by rounding (φ(0) + tiny == φ(0)).
-        """
-        origin = self.origin
-        if origin.value is None:  # a rule called without f(x): nothing to compare with
-            return False
-        if origin.slope is None:
-            return point.value < origin.value
-        return point.value - origin.value <= c1 * point.size * origin.slope
 
     @property
     def non_finite_seen(self) -> bool:

@@ -166,7 +166,13 @@ class MoreThuente(StepController):
         decrease = self.c1 * g0  # ψ(t) = φ(t) − (f0 + t·decrease), ψ'(t) = φ'(t) − decrease
         flat = -self.c2 * g0
         xtol, min_size, max_size = self.xtol, self.min_size, self.max_size
+        size = min(max(first, min_size), max_size)
         evaluate = ray.value_and_slope
+        # The common case, an accepted first trial, returns before the setup below (the
+        # loop's own test); otherwise the loop gets this point again from the ray's cache.
+        point = evaluate(size)
+        if point.value <= f0 + size * decrease and -flat <= point.slope <= flat:
+            return point, Status.accepted
         # The interval ends in φ terms: t_l (least working value) and t_u.
         lt, lf, lg = 0.0, f0, g0
         ut, uf, ug = 0.0, f0, g0
@@ -174,7 +180,6 @@ class MoreThuente(StepController):
         auxiliary = True  # first stage: the working function is ψ
         width = max_size - min_size
         width_before = 2.0 * width
-        size = min(max(first, min_size), max_size)
         lower, upper = 0.0, size + EXTRAPOLATE_HIGH * size
         while True:
             point = evaluate(size)
