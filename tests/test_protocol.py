@@ -7,6 +7,7 @@ Method-specific conditions are checked in the per-method test files.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import numpy as np
@@ -82,9 +83,14 @@ def test_returns_a_step_whose_counts_match_the_objective(name):
     x = np.array([3.0, -2.0, 0.5])
     before = objective.evaluations
     step = controller(objective, x, -grad(x))
-    assert isinstance(step, Step)
+    assert type(step) is Step
     assert isinstance(step.status, Status)
     assert step.evaluations == objective.evaluations - before
+    # An ordinary frozen Step, equal to one built by its constructor (the base class
+    # builds it more cheaply; see `_controller._step`).
+    assert step == Step(**{name: getattr(step, name) for name in Step.__slots__})
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        step.size = 2.0
     assert np.all(np.isfinite(step.x))
     assert isinstance(step.message, str) and step.message
     assert step.ok is (step.status is Status.accepted)

@@ -38,32 +38,44 @@ _NDARRAY = np.ndarray
 _CONSTANT = _initial.ConstantTrial
 _ACCEPTED = Status.accepted
 _ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
-# Evaluations records are immutable, so the common small counts are shared.
-_EVALUATIONS = {(v, g): Evaluations(values=v, gradients=g) for v in range(32) for g in range(32)}
-# Step is a frozen slots dataclass; writing its slots directly skips the
-# object.__setattr__ round trip of the generated __init__ (about 0.5 us per call).
-_STEP_SLOTS = tuple(getattr(Step, name).__set__ for name in (
-    "size", "x", "value", "gradient", "evaluations", "status", "message", "trials"))
-_new = object.__new__
+# Evaluations records are immutable, so the common small counts are shared
+# (_EVALUATIONS[values][gradients]).
+_SHARED = 32
+_EVALUATIONS = [[Evaluations(values=v, gradients=g) for g in range(_SHARED)]
+                for v in range(_SHARED)]
+
+
+class _StepDraft:
+    """A mutable twin of the frozen `Step`, with the same slots, used only by `_step`.
+
+    Step is a frozen slots dataclass; its generated __init__ writes each field
+    through object.__setattr__, which costs more than a whole accepted unit-step
+    search spends in its own logic. `_step` fills a draft with plain attribute
+    writes and then makes it a Step: Python allows assigning ``__class__``
+    between classes whose instances have the same slot layout. The result is an
+    ordinary, frozen Step.
+    """
+
+    __slots__ = Step.__slots__
 
 
 def _step(point: Point, values: int, gradients: int, status: Status, message: str,
           trials: Any) -> Step:
     """The Step moving to `point` (the origin for x unchanged) after that many evaluations."""
-    evaluations = _EVALUATIONS.get((values, gradients))
-    if evaluations is None:
+    if values < _SHARED and gradients < _SHARED:
+        evaluations = _EVALUATIONS[values][gradients]
+    else:
         evaluations = Evaluations(values=values, gradients=gradients)
-    step = _new(Step)
-    set_size, set_x, set_value, set_gradient, set_evaluations, set_status, set_message, \
-        set_trials = _STEP_SLOTS
-    set_size(step, point.size)
-    set_x(step, point.x)
-    set_value(step, point.value)
-    set_gradient(step, point.gradient)
-    set_evaluations(step, evaluations)
-    set_status(step, status)
-    set_message(step, message)
-    set_trials(step, trials)
+    step = _StepDraft()
+    step.size = point.size
+    step.x = point.x
+    step.value = point.value
+    step.gradient = point.gradient
+    step.evaluations = evaluations
+    step.status = status
+    step.message = message
+    step.trials = trials
+    step.__class__ = Step
     return step
 
 

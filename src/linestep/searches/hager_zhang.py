@@ -168,18 +168,15 @@ class HagerZhang(StepController):
         self._weight = 0.0  # Q_{k-1} of the running average
         self._scale = 0.0  # C_{k-1}
 
-    def _epsilon_k(self, value: float) -> float:
-        """ε_k = ε·C_k after folding |f(x_k)| into the running average (2006, §3)."""
-        weight = 1.0 + self.epsilon_memory * self._weight
-        scale = self._scale + (abs(value) - self._scale) / weight
-        self._weight, self._scale = weight, scale
-        return self.epsilon * scale
-
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
         f0, d0, c1 = origin.value, origin.slope, self.c1
-        epsilon_k = self._epsilon_k(f0)
-        size = min(first, self.max_size)
+        # ε_k = ε·C_k after folding |f(x_k)| into the running average C_k (2006, §3).
+        weight = 1.0 + self.epsilon_memory * self._weight
+        scale = self._scale + (abs(f0) - self._scale) / weight
+        self._weight, self._scale = weight, scale
+        epsilon_k = self.epsilon * scale
+        size = first if first < self.max_size else self.max_size
         # The first trial is tested here, so that the common case of an accepted
         # first trial skips building the walk (same tests as `_Walk.probe`).
         point = ray.value_and_slope(size)

@@ -166,7 +166,9 @@ class MoreThuente(StepController):
         decrease = self.c1 * g0  # ψ(t) = φ(t) − (f0 + t·decrease), ψ'(t) = φ'(t) − decrease
         flat = -self.c2 * g0
         xtol, min_size, max_size = self.xtol, self.min_size, self.max_size
-        size = min(max(first, min_size), max_size)
+        size = first if first > min_size else min_size  # clipped to [min_size, max_size]
+        if size > max_size:
+            size = max_size
         evaluate = ray.value_and_slope
         # The common case, an accepted first trial, returns before the setup below (the
         # loop's own test); otherwise the loop gets this point again from the ray's cache.
