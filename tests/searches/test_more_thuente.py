@@ -213,6 +213,11 @@ def quadratic_1d(minimiser: float = 1.0):
     return (lambda x: float((x[0] - minimiser) ** 2), lambda x: 2.0 * (x - minimiser))
 
 
+def kink_1d(k: float):
+    """φ(t) = |t − k| along d = 1 from x = 0: |φ'| = 1 on both sides of the kink."""
+    return (lambda x: abs(float(x[0]) - k), lambda x: np.array([1.0 if x[0] >= k else -1.0]))
+
+
 @pytest.mark.parametrize("direction", [[1.0], [0.0]], ids=["ascent", "flat"])
 def test_not_descent_leaves_x_and_evaluates_nothing(direction):
     x = np.array([3.0])
@@ -278,9 +283,7 @@ def test_kink_collapses_the_interval():
     # φ(t) = |t − k|: |φ'| = 1 everywhere, so the strong curvature test with c2 = 0.5 can
     # never hold; the interval shrinks below xtol around the kink.
     k = 0.7 * math.sqrt(2.0)
-    fun = lambda x: abs(float(x[0]) - k)  # noqa: E731
-    grad = lambda x: np.array([1.0 if x[0] >= k else -1.0])  # noqa: E731
-    step = MoreThuente(c2=0.5, initial=3.0)((fun, grad), np.array([0.0]), np.array([1.0]))
+    step = MoreThuente(c2=0.5, initial=3.0)(kink_1d(k), np.array([0.0]), np.array([1.0]))
     assert step.status is Status.interval_too_small
     assert step.size == pytest.approx(k, abs=1e-8)
     assert step.value < k  # the best point with sufficient decrease

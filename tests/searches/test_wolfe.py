@@ -17,6 +17,7 @@ from .test_more_thuente import (
     assert_same_conditions_as_scipy,
     assert_strong_wolfe,
     constants,
+    kink_1d,
     make_phi,
     quadratic_1d,
     search_phi,
@@ -202,14 +203,12 @@ def test_kink_collapses_the_bracket():
     # φ(t) = |t − k|: |φ'| = 1 everywhere, so the strong curvature test with c2 = 0.5 can
     # never hold; the bracket shrinks to rounding level around the kink.
     k = 0.7 * math.sqrt(2.0)
-    fun = lambda x: abs(float(x[0]) - k)  # noqa: E731
-    grad = lambda x: np.array([1.0 if x[0] >= k else -1.0])  # noqa: E731
-    step = Wolfe(c2=0.5, initial=3.0)((fun, grad), np.array([0.0]), np.array([1.0]))
+    step = Wolfe(c2=0.5, initial=3.0)(kink_1d(k), np.array([0.0]), np.array([1.0]))
     assert step.status is Status.interval_too_small
     assert step.size == pytest.approx(k, abs=1e-12)
     assert step.value < k  # the best point with sufficient decrease
     # The weak form accepts the first trial past the kink instead.
-    weak = Wolfe(c2=0.5, initial=3.0, strong=False)((fun, grad), np.array([0.0]),
+    weak = Wolfe(c2=0.5, initial=3.0, strong=False)(kink_1d(k), np.array([0.0]),
                                                    np.array([1.0]))
     assert weak.status is Status.accepted
 
