@@ -521,7 +521,7 @@ def _report(args: argparse.Namespace) -> int:
         else folder
     if not results_file.exists():
         raise UsageError(
-            f"No results in {args.folder!r} (no {storage.FILE_NAME} there). Run "
+            f"No results file in {args.folder!r} (no {storage.FILE_NAME} there). Run "
             f"`linestep bench --out {shlex.quote(args.folder)}` first, or name the folder "
             f"that holds {storage.FILE_NAME}."
         )
