@@ -7,6 +7,7 @@ library itself composes built objects.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import html
 import math
 import os
@@ -15,7 +16,7 @@ import shlex
 import sys
 import time
 import warnings
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from functools import partial
 from pathlib import Path
 from typing import Any, TextIO
@@ -372,6 +373,26 @@ def _advance(bar: Any, done: int, total: int, record: Any = None) -> None:
     bar.update(done - bar.n)
 
 
+# Modules whose numpy RuntimeWarnings are handled where they arise (non-finite
+# values become a status or a failed run): silenced in worker processes too.
+HANDLED_WARNING_MODULES = ("linestep._ray", "linestep._array", "linestep.stopping")
+
+
+@contextlib.contextmanager
+def _quiet_workers() -> Iterator[None]:
+    """Pass the warning filter to worker processes started fresh (spawn, forkserver)."""
+    previous = os.environ.get("PYTHONWARNINGS")
+    quiet = [f"ignore::RuntimeWarning:{module}" for module in HANDLED_WARNING_MODULES]
+    os.environ["PYTHONWARNINGS"] = ",".join(filter(None, [previous, *quiet]))
+    try:
+        yield
+    finally:
+        if previous is None:
+            del os.environ["PYTHONWARNINGS"]
+        else:
+            os.environ["PYTHONWARNINGS"] = previous
+
+
 # --- wording for the command line ----------------------------------------------------------
 
 # The library's advice names its arguments; on the command line the options are named.
@@ -454,9 +475,10 @@ def _bench(args: argparse.Namespace) -> int:
             f"on {where}.")
         bar = None if args.quiet else progress_bar(len(tasks), already)
     try:
-        with warnings.catch_warnings():
-            # handled numerics (overflow of a diverging fixed rate) end as failed runs
-            warnings.simplefilter("ignore", RuntimeWarning)
+        with warnings.catch_warnings(), _quiet_workers():
+            # numpy's overflow warnings inside linestep are handled (a diverging fixed
+            # rate ends as a failed run with its reason); the user's own code still warns
+            warnings.filterwarnings("ignore", category=RuntimeWarning, module=r"linestep\.")
             results = run_study(study, out, workers=args.workers, scheduler=args.scheduler,
                                 progress=None if bar is None else partial(_advance, bar))
     except KeyboardInterrupt:

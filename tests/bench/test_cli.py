@@ -218,3 +218,16 @@ def test_the_default_study_runs_and_writes_a_report(tmp_path: Path) -> None:
     assert (tmp_path / "linestep-results" / "results.sqlite").exists()
     assert (tmp_path / "linestep-results" / "report.html").exists()
     assert textwrap.dedent(result.stdout).splitlines()[0].split()[:2] == ["#", "controller"]
+
+
+def test_handled_overflow_warnings_do_not_reach_the_user(tmp_path: Path) -> None:
+    # Wolfe + L-BFGS on Jennrich–Sampson overflows in the ray's slope (inf, handled as a
+    # non-finite trial); numpy's RuntimeWarning used to reach stderr from the workers.
+    (tmp_path / "overflowing.py").write_text(
+        "from linestep.bench import get_problem\n\n"
+        "def make():\n    return get_problem('jennrich_sampson')\n")
+    result = _run("bench", "--objective", "overflowing:make", "--controllers", "wolfe",
+                  "--directions", "lbfgs", "--workers", "2", "--no-report", "--out",
+                  str(tmp_path / "out"), cwd=tmp_path)
+    assert result.returncode == 0, result.stderr
+    assert "RuntimeWarning" not in result.stderr
