@@ -449,6 +449,7 @@ def _print_ranking(results: Any) -> None:
 def _bench(args: argparse.Namespace) -> int:
     from linestep.bench import storage
     from linestep.bench.harness import Results, run_study
+    from linestep.bench.report import MAX_CONVERGENCE_PLOTS
 
     def say(text: str) -> None:
         if not args.quiet:
@@ -474,6 +475,9 @@ def _bench(args: argparse.Namespace) -> int:
         say(f"{runs}; {already} already in {results_file}; running {len(tasks) - already} "
             f"on {where}.")
         bar = None if args.quiet else progress_bar(len(tasks), already)
+        if bar is None and not args.quiet:
+            say('note: tqdm is not installed, so there is no progress bar (pip install '
+                '"linestep[bench]").')
     try:
         with warnings.catch_warnings(), _quiet_workers():
             # numpy's overflow warnings inside linestep are handled (a diverging fixed
@@ -501,7 +505,8 @@ def _bench(args: argparse.Namespace) -> int:
     if len(all_results) > len(results):
         say(f"note: {results_file} also holds {len(all_results) - len(results)} runs of other "
             "studies; the report covers them all.")
-    say(f"Writing the report ({min(len(all_results.instances()), 40)} convergence plots)…")
+    plots = min(len(all_results.instances()), MAX_CONVERGENCE_PLOTS)
+    say(f"Writing the report ({plots} convergence plot{'s' if plots != 1 else ''})…")
     started = time.perf_counter()
     report = _write_report(all_results, out, results_file, say)
     say(f"Report written in {time.perf_counter() - started:.1f} s.")
