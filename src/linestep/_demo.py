@@ -80,9 +80,11 @@ def run_demo(print_line: Callable[[str], object] = print) -> list[tuple[str, Run
     """Run the comparison and print the table; returns the runs for tests."""
     problem = make_calibration()
     print_line("linestep demo: fitting an INVENTED probe calibration (seeded synthetic data)")
-    print_line(f"  3 parameters, {len(problem.targets)} readings; the fit's gradient is "
-               f"L-Lipschitz with L = {problem.lipschitz:.3g},")
-    print_line(f"  so a fixed rate converges only below 2/L = {2 / problem.lipschitz:.3g}.")
+    # both numbers printed to 4 decimals from the same L, so 2/L is visibly 2 divided by L
+    print_line(f"  3 parameters, {len(problem.targets)} readings. The fit's Hessian has largest "
+               f"eigenvalue L = {problem.lipschitz:.4f}")
+    print_line(f"  (computed exactly), so a fixed rate converges only below 2/L = "
+               f"{2 / problem.lipschitz:.4f}; {TOO_LARGE_RATE:g} is above it.")
     print_line("")
     results = []
     for label, build in _controllers(problem):
