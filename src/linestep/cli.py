@@ -72,7 +72,7 @@ your objective (--objective module:function or path/to/file.py:function): the
 
 
 def _polyak_at_optimum() -> Any:
-    from linestep.bench.harness import polyak_at_optimum  # the harness loads on demand
+    from linestep.bench import polyak_at_optimum  # the harness loads on demand
 
     return polyak_at_optimum()
 
@@ -110,7 +110,7 @@ DEFAULT_DIRECTIONS = "steepest,lbfgs"
 DEFAULT_OUT = "linestep-results"
 # The command line's iteration budget: the default study must stay short.
 DEFAULT_MAX_ITERATIONS = 2000
-DEFAULT_GRADIENT_TOL = stopping.DEFAULT_GRADIENT_ATOL
+DEFAULT_GRADIENT_ATOL = stopping.DEFAULT_GRADIENT_ATOL
 
 
 class UsageError(Exception):
@@ -163,9 +163,9 @@ def _add_bench(commands: Any) -> None:
                        help=f"iteration budget per run (default: {DEFAULT_MAX_ITERATIONS})")
     bench.add_argument("--max-evaluations", metavar="N", type=_positive_int, default=None,
                        help="value + gradient evaluation budget per run (default: none)")
-    bench.add_argument("--gradient-tol", metavar="X", type=_positive_float,
-                       default=DEFAULT_GRADIENT_TOL,
-                       help=f"stop when max|∇f| <= X (default: {DEFAULT_GRADIENT_TOL:g})")
+    bench.add_argument("--gradient-atol", metavar="X", type=_positive_float,
+                       default=DEFAULT_GRADIENT_ATOL,
+                       help=f"stop when max|∇f| <= X (default: {DEFAULT_GRADIENT_ATOL:g})")
     bench.add_argument("--no-report", action="store_true", help="skip report.html")
     bench.add_argument("--quiet", action="store_true",
                        help="no progress bar and no table; print only the report's path")
@@ -254,7 +254,7 @@ def build_direction(name: str) -> Any:
 
 def build_start(name: str) -> Any:
     """The `Start` for a command-line name."""
-    from linestep.bench.harness import Start
+    from linestep.bench import Start
 
     base, _, argument = name.partition(":")
     try:
@@ -301,7 +301,7 @@ def _problems(args: argparse.Namespace, say: Callable[[str], None]) -> list[Any]
 
 def build_study(args: argparse.Namespace, say: Callable[[str], None]) -> Any:
     """The `Study` described by the `bench` arguments."""
-    from linestep.bench.harness import Study
+    from linestep.bench import Study
 
     names = _split(args.controllers) if args.controllers else DEFAULT_CONTROLLERS
     if not names:
@@ -311,7 +311,7 @@ def build_study(args: argparse.Namespace, say: Callable[[str], None]) -> Any:
     if not directions:
         raise UsageError("--directions is empty.")
     starts = [build_start(name) for name in _split(args.starts)]
-    stop = stopping.default(gradient_atol=args.gradient_tol, max_iterations=args.max_iterations,
+    stop = stopping.default(gradient_atol=args.gradient_atol, max_iterations=args.max_iterations,
                             max_evaluations=args.max_evaluations)
     return Study(problems=_problems(args, say), controllers=controllers, directions=directions,
                  starts=starts, seeds=range(args.seeds), stop=stop)
@@ -354,7 +354,7 @@ class ProgressBar:
 
 def _bench(args: argparse.Namespace) -> int:
     from linestep.bench import storage
-    from linestep.bench.harness import Results, run_study
+    from linestep.bench import Results, run_study
     from linestep.bench.report import format_ranking, ranking, write_html
 
     def say(text: str) -> None:
@@ -413,7 +413,7 @@ def _tables_only_report(results: Any, out: Path) -> Path:
 
 
 def _report(args: argparse.Namespace) -> int:
-    from linestep.bench.harness import Results
+    from linestep.bench import Results
     from linestep.bench.report import format_ranking, ranking, write_report
 
     folder = Path(args.folder)

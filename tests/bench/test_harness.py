@@ -29,7 +29,7 @@ from linestep.bench import (
     suite,
     suite_names,
 )
-from linestep.bench.harness import incompatible
+from linestep.bench.harness import unsupported_direction
 from linestep.bench.suites import quadratic_problem
 from linestep.directions import LBFGS, SteepestDescent
 from linestep.rules.fixed import Fixed
@@ -114,9 +114,9 @@ def test_labels_from_a_mapping_and_per_problem_controllers() -> None:
 def test_gradient_only_rules_are_not_paired_with_other_directions() -> None:
     from linestep.rules.barzilai_borwein import BarzilaiBorwein
 
-    assert incompatible(BarzilaiBorwein(), LBFGS())
-    assert not incompatible(BarzilaiBorwein(), SteepestDescent())
-    assert not incompatible(Armijo(), LBFGS())
+    assert unsupported_direction(BarzilaiBorwein(), LBFGS())
+    assert not unsupported_direction(BarzilaiBorwein(), SteepestDescent())
+    assert not unsupported_direction(Armijo(), LBFGS())
     study = Study(problems=[get_problem("beale")], controllers=[BarzilaiBorwein(), Armijo()],
                   directions=[SteepestDescent(), LBFGS()])
     assert len(study) == 3

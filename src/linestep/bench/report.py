@@ -44,7 +44,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate
-from linestep.bench.harness import Results
+from linestep.bench._results import Results
 from linestep.bench.profiles import (
     DEFAULT_LOG2_TAU_MAX,
     data_profile,

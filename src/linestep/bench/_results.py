@@ -1,0 +1,197 @@
+"""`Results`: the records of a study, with the analysis that needs all runs at once."""
+
+from __future__ import annotations
+
+import functools
+import math
+from collections.abc import Callable, Iterator, Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from linestep import _validate
+from linestep.bench import storage
+from linestep.bench._record import RunRecord
+from linestep.bench.problems import SOLVE_RTOL, close_to_optimum
+
+# --- results ------------------------------------------------------------------------------
+
+
+class Results(Sequence):
+    """The records of a study, with the analysis that needs all runs at once.
+
+    Problem instances without a known optimum are judged against the best value
+    any run reached on them (`reference`).
+
+    Parameters
+    ----------
+    records : iterable of RunRecord
+    solve_rtol : float
+        Tolerance of the solved test for instances without a known optimum.
+    """
+
+    def __init__(self, records: Sequence[RunRecord] | Iterator[RunRecord], *,
+                 solve_rtol: float = SOLVE_RTOL) -> None:
+        self.records = tuple(records)
+        self.solve_rtol = solve_rtol
+        self._directions_vary = len({r.direction for r in self.records}) > 1
+        self._stops = {stop: i for i, stop in
+                       enumerate(dict.fromkeys(r.stop for r in self.records), start=1)}
+
+    @classmethod
+    def load(cls, path: str | Path, *, solve_rtol: float = SOLVE_RTOL) -> Results:
+        """Read a results file (or the folder holding ``results.sqlite``), read-only."""
+        with storage.ResultStore(path, read_only=True) as store:
+            return cls([RunRecord.from_row(row) for row in store.rows()], solve_rtol=solve_rtol)
+
+    def __len__(self) -> int:
+        return len(self.records)
+
+    def __getitem__(self, index: Any) -> Any:
+        return self.records[index]
+
+    def __repr__(self) -> str:
+        return f"Results({len(self.records)} runs)"
+
+    # -- grouping -----------------------------------------------------------------------
+    def instances(self) -> list[tuple[str, int, str, int | None]]:
+        """Problem instances (problem, dimension, start, seed), in first-seen order."""
+        return list(dict.fromkeys(record.instance for record in self.records))
+
+    def solver(self, record: RunRecord) -> str:
+        """The solver label of a record: the controller, plus the direction and stopping
+        rule when the results hold several of those."""
+        parts = [record.controller]
+        if self._directions_vary:
+            parts.append(record.direction)
+        if len(self._stops) > 1:
+            parts.append(f"stop #{self._stops[record.stop]}")
+        return " + ".join(parts)
+
+    def solvers(self) -> list[str]:
+        """Solver labels in first-seen order."""
+        return list(dict.fromkeys(self.solver(record) for record in self.records))
+
+    # -- judging -------------------------------------------------------------------------
+    def reference(self, instance: tuple) -> float | None:
+        """The value runs on `instance` are judged against: the known optimum when there
+        is one, else the lowest final value of any run (None if no run ended finite)."""
+        return self._references.get(instance)
+
+    @functools.cached_property
+    def _references(self) -> dict[tuple, float]:
+        optima: dict[tuple, float] = {}
+        best: dict[tuple, float] = {}
+        for record in self.records:
+            if record.optimum is not None:
+                optima[record.instance] = min(optima.get(record.instance, math.inf),
+                                              record.optimum)
+            if record.value is not None and math.isfinite(record.value):
+                best[record.instance] = min(best.get(record.instance, math.inf), record.value)
+        return {**best, **optima}
+
+    def is_solved(self, record: RunRecord) -> bool:
+        """The record's solved flag; for unknown optima, within `solve_rtol` of the best."""
+        if record.solved is not None:
+            return bool(record.solved)
+        reference = self.reference(record.instance)
+        return (reference is not None and record.value is not None
+                and close_to_optimum(record.value, reference, self.solve_rtol))
+
+    def gap(self, record: RunRecord) -> float | None:
+        """value − optimum, or value − best value found for unknown optima."""
+        if record.gap is not None:
+            return record.gap
+        reference = self.reference(record.instance)
+        if record.value is None or reference is None:
+            return None
+        return record.value - reference
+
+    def lowest_value(self, instance: tuple) -> float | None:
+        """The lowest f in any run's history on `instance`: Moré and Wild's f_L."""
+        return self._lowest.get(instance)
+
+    @functools.cached_property
+    def _lowest(self) -> dict[tuple, float]:
+        lowest: dict[tuple, float] = {}
+        for record in self.records:
+            if record.history is not None:
+                finite = record.history.value[np.isfinite(record.history.value)]
+                if finite.size:
+                    lowest[record.instance] = min(lowest.get(record.instance, math.inf),
+                                                  float(finite.min()))
+        return lowest
+
+    # -- matrices for profiles --------------------------------------------------------------
+    def cost_matrix(self, measure: str = "evaluations"
+                    ) -> tuple[list[tuple], list[str], np.ndarray]:
+        """Costs t_{p,s} of solved runs (inf otherwise, or when the run is missing).
+
+        `measure` is ``"evaluations"`` (values + gradients), ``"values"``,
+        ``"gradients"``, ``"iterations"`` or ``"seconds"``. Several records of one
+        solver on one instance (random starts are separate instances) keep the last.
+        """
+        cost = _measure(measure)
+        tiny = np.finfo(float).tiny
+        return self._matrix(lambda record: max(cost(record), tiny)
+                            if self.is_solved(record) else None)
+
+    def first_success_matrix(self, tolerance: float
+                             ) -> tuple[list[tuple], list[str], np.ndarray, np.ndarray]:
+        """Evaluations at which each run first passed Moré and Wild's test with `tolerance`.
+
+        Returns instances, solvers, the matrix (inf when never) and the dimensions.
+        """
+        from linestep.bench.profiles import first_success
+
+        def cell(record: RunRecord) -> float | None:
+            history, f_low = record.history, self.lowest_value(record.instance)
+            if history is None or f_low is None:
+                return None
+            return first_success(history.values + history.gradients, history.value,
+                                 f_low=f_low, tolerance=tolerance)
+
+        instances, solvers, matrix = self._matrix(cell)
+        dimensions = np.array([instance[1] for instance in instances], dtype=float)
+        return instances, solvers, matrix, dimensions
+
+    def _matrix(self, cell: Callable[[RunRecord], float | None]
+                ) -> tuple[list[tuple], list[str], np.ndarray]:
+        """Instances × solvers of ``cell(record)``; inf where it is None or no run exists."""
+        instances, solvers = self.instances(), self.solvers()
+        rows = {instance: i for i, instance in enumerate(instances)}
+        columns = {solver: j for j, solver in enumerate(solvers)}
+        matrix = np.full((len(instances), len(solvers)), np.inf)
+        for record in self.records:
+            value = cell(record)
+            if value is not None:
+                matrix[rows[record.instance], columns[self.solver(record)]] = value
+        return instances, solvers, matrix
+
+    def to_rows(self, *, history: bool = False) -> list[dict[str, Any]]:
+        """One dict per run (tidy form), with `gap` and `solved` filled in for unknown
+        optima and the `solver` label added."""
+        rows = []
+        for record in self.records:
+            row = record.to_row(history=history)
+            row["gap"] = self.gap(record)
+            row["solved"] = self.is_solved(record)
+            row["evaluations"] = record.evaluations
+            row["solver"] = self.solver(record)
+            rows.append(row)
+        return rows
+
+
+# Costs a profile can measure runs by (`Results.cost_matrix`).
+_MEASURES: dict[str, Callable[[RunRecord], float]] = {
+    "evaluations": lambda r: r.evaluations,
+    "values": lambda r: r.value_evaluations,
+    "gradients": lambda r: r.gradient_evaluations,
+    "iterations": lambda r: max(r.iterations, 1),
+    "seconds": lambda r: r.seconds,
+}
+
+
+def _measure(name: str) -> Callable[[RunRecord], float]:
+    return _MEASURES[_validate.choice("measure", name, tuple(_MEASURES))]
