@@ -353,8 +353,8 @@ class ProgressBar:
 
 
 def _bench(args: argparse.Namespace) -> int:
-    from linestep.bench import storage
-    from linestep.bench import Results, run_study
+    from linestep.bench import Results, run_study, storage
+    from linestep.bench._results import OUTCOME_DEFINITIONS
     from linestep.bench.report import format_ranking, ranking, write_html
 
     def say(text: str) -> None:
@@ -363,31 +363,43 @@ def _bench(args: argparse.Namespace) -> int:
 
     study = build_study(args, say)
     out = Path(args.out)
-    tasks = study.tasks()
     results_file = out / storage.FILE_NAME
-    already = 0
-    if results_file.exists():
-        with storage.ResultStore(results_file) as store:
-            already = len(store.keys() & {task.key for task in tasks})
+    if out.exists() and not out.is_dir():
+        raise UsageError(f"--out {args.out!r} is a file, not a folder; name a folder "
+                         "(it is created if needed).")
     where = (f"the Dask cluster at {args.scheduler}" if args.scheduler else
              f"{args.workers or os.cpu_count()} worker process(es)")
     count = len(study.problems)
-    say(f"linestep bench: {len(tasks)} runs ({count} problem{'s' if count > 1 else ''}); "
-        f"{already} already in {results_file}; running the rest on {where}.")
-    bar = None if args.quiet or already == len(tasks) else ProgressBar(len(tasks))
+    bar = None
+
+    def announce(total: int, already: int) -> None:
+        nonlocal bar
+        say(f"linestep bench: {total} runs ({count} problem{'s' if count > 1 else ''}); "
+            f"{already} already in {results_file}; running the rest on {where}.")
+        bar = None if args.quiet or already == total else ProgressBar(total)
+
     try:
         results = run_study(study, out, workers=args.workers, scheduler=args.scheduler,
-                            progress=bar)
+                            progress=lambda *a: bar(*a) if bar is not None else None,
+                            announce=announce)
     except KeyboardInterrupt:
         print(f"\nInterrupted. Finished runs are saved in {results_file}; run the same "
               "command again to resume.", file=sys.stderr)
         return 130
+    for sentence in results.damaged:
+        say(f"warning: {sentence}")
     if not args.quiet:
         print(format_ranking(ranking(results)))
+        print(OUTCOME_DEFINITIONS)
     if args.no_report:
         say(f"Results: {results_file}")
         return 0
     all_results = Results.load(results_file)
+    with storage.ResultStore(results_file, read_only=True) as store:
+        superseded = store.superseded()
+    if superseded:
+        say(f"note: {results_file} keeps {superseded} older run(s) of problems that have "
+            "changed since; they are marked superseded and left out of the report.")
     if len(all_results) > len(results):
         say(f"note: {results_file} also holds {len(all_results) - len(results)} runs of other "
             "studies; the report covers them all.")
@@ -397,6 +409,12 @@ def _bench(args: argparse.Namespace) -> int:
         say("note: matplotlib is not installed; the report has tables only "
             '(pip install "linestep[bench]").')
         report = _tables_only_report(all_results, out)
+    except Exception as exc:  # noqa: BLE001 - the runs are saved whatever went wrong here
+        print(f"linestep bench: error: the report could not be written to "
+              f"{out / 'report.html'} ({type(exc).__name__}: {exc}). The "
+              f"{len(all_results)} runs are saved in {results_file}; write the report "
+              f"later with `linestep report {out} --html`.", file=sys.stderr)
+        return 2
     print(f"Report: {report}")
     return 0
 
@@ -414,15 +432,23 @@ def _tables_only_report(results: Any, out: Path) -> Path:
 
 def _report(args: argparse.Namespace) -> int:
     from linestep.bench import Results
+    from linestep.bench._results import OUTCOME_DEFINITIONS
     from linestep.bench.report import format_ranking, ranking, write_report
 
     folder = Path(args.folder)
     results = Results.load(folder)
+    for sentence in results.damaged:
+        print(f"warning: {sentence}", file=sys.stderr)
     print(format_ranking(ranking(results)))
+    print(OUTCOME_DEFINITIONS)
     if args.html or args.csv or args.json or args.figures:
-        written = write_report(results, folder if folder.is_dir() else folder.parent,
-                               html=args.html, csv=args.csv, json=args.json,
-                               figures=args.figures)
+        target = folder if folder.is_dir() else folder.parent
+        try:
+            written = write_report(results, target, html=args.html, csv=args.csv,
+                                   json=args.json, figures=args.figures)
+        except OSError as exc:
+            raise UsageError(f"could not write the report into {str(target)!r} ({exc}); "
+                             "the stored runs are unchanged.") from None
         for kind, path in written.items():
             print(f"{kind}: {path}")
     return 0

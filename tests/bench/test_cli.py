@@ -57,7 +57,7 @@ def test_a_user_objective_end_to_end(tmp_path: Path) -> None:
     assert bench.returncode == 0, bench.stderr
     assert "decay_fit" not in bench.stderr  # no error text
     assert f"Report: {out / 'report.html'}" in bench.stdout
-    assert "Armijo()" in bench.stdout and "Fixed(size=0.001)" in bench.stdout
+    assert "Armijo()" in bench.stdout and "Fixed(0.001)" in bench.stdout
     with sqlite3.connect(out / "results.sqlite") as connection:
         rows = connection.execute("SELECT problem, controller, kind FROM runs").fetchall()
     assert sorted(rows)[0][0] == "decay_fit" and len(rows) == 3

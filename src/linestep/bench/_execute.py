@@ -9,9 +9,10 @@ from __future__ import annotations
 
 import dataclasses
 import functools
-import math
 import os
 import pickle
+import signal
+import threading
 import time
 import traceback
 from collections import deque
@@ -29,7 +30,7 @@ from linestep.bench import storage
 from linestep.bench._record import STORED_POINT_LIMIT, RunRecord, _history_to_json
 from linestep.bench._results import Results
 from linestep.bench._study import Study, _Task
-from linestep.bench.problems import Problem, optimum_below
+from linestep.bench.problems import Problem
 from linestep.bench.user import UserProblem, from_file, resolve_source
 
 # Tracebacks longer than this are cut (keeping the end, where the error is).
@@ -37,6 +38,8 @@ ERROR_TEXT_LIMIT = 4_000
 # Runs kept in flight per worker: enough to keep workers busy, few enough to
 # lose little on Ctrl-C.
 IN_FLIGHT_PER_WORKER = 2
+# How often a pool worker checks that its parent is alive (seconds).
+PARENT_POLL_SECONDS = 0.25
 
 # --- running one task (in a worker) -------------------------------------------------------
 
@@ -78,8 +81,8 @@ def _failed_row(task: _Task, reason: str, error: str, *, seconds: float = 0.0,
                 value_evaluations: int = 0, gradient_evaluations: int = 0,
                 objective_seconds: float = 0.0) -> dict[str, Any]:
     return {"key": task.key, **task.header, "kind": "failed", "reason": reason,
-            "value": None, "initial_value": None, "optimum": None, "gap": None,
-            "solved": False, "iterations": 0, "value_evaluations": value_evaluations,
+            "value": None, "initial_value": None, "iterations": 0,
+            "value_evaluations": value_evaluations,
             "gradient_evaluations": gradient_evaluations, "seconds": seconds,
             "objective_seconds": objective_seconds, "error": error, "x": None,
             "history": None}
@@ -90,8 +93,32 @@ def _failed_row(task: _Task, reason: str, error: str, *, seconds: float = 0.0,
 _POOL_PROBLEMS: list[Problem] = []
 
 
-def _install_problems(problems: list[Problem]) -> None:
+def _install_problems(problems: list[Problem], parent: int) -> None:
+    """A pool worker's start: receive the problems, leave Ctrl-C to the parent (which
+    ends the workers itself), and exit when the parent process dies."""
     _POOL_PROBLEMS[:] = problems
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    threading.Thread(target=_watch_parent, args=(parent, os.getppid()), daemon=True,
+                     name="linestep-watch-parent").start()
+
+
+def _watch_parent(parent: int, spawner: int) -> None:
+    """Exit at once when the parent (or the process that started this one) is gone:
+    a killed parent must not leave idle workers holding its output pipe."""
+    while True:
+        time.sleep(PARENT_POLL_SECONDS)
+        if os.getppid() != spawner or not _alive(parent):
+            os._exit(1)
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except PermissionError:  # alive, owned by someone else (a reused pid): treat as gone
+        return False
+    return True
 
 
 def _problem_of(task: _Task) -> Problem:
@@ -136,15 +163,11 @@ def execute(task: _Task) -> dict[str, Any]:
             objective_seconds=sum(t.seconds for t in timers))
     seconds = time.perf_counter() - started
     value = float(run.value)
-    optimum = optimum_below(problem.optimal_values, value) if math.isfinite(value) else None
     x = np.asarray(run.x, dtype=float).reshape(-1)
     return {
         "key": task.key, **task.header, "kind": str(run.verdict.kind.value),
         "reason": run.verdict.reason, "value": value,
         "initial_value": float(run.history.value[0]),
-        "optimum": optimum, "gap": None if optimum is None else value - optimum,
-        "solved": (problem.solved(value, rtol=task.solve_rtol)
-                   if problem.optimal_values else None),
         "iterations": int(run.iterations),
         "value_evaluations": int(run.evaluations.values),
         "gradient_evaluations": int(run.evaluations.gradients),
@@ -232,7 +255,8 @@ def _prepare_for_processes(tasks: list[_Task], *, strict: bool) -> list[_Task]:
 
 def run_study(study: Study, out: str | Path | None = None, *, workers: int | None = None,
               executor: Any = None, scheduler: Any = None,
-              progress: Callable[[int, int, RunRecord], Any] | None = None) -> Results:
+              progress: Callable[[int, int, RunRecord], Any] | None = None,
+              announce: Callable[[int, int], Any] | None = None) -> Results:
     """Run every run of `study` not yet in `out`'s results file; return the study's results.
 
     Parameters
@@ -255,6 +279,9 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
     progress : callable, optional
         ``progress(done, total, record)`` after each run finishes (runs found
         already finished count as done from the start).
+    announce : callable, optional
+        ``announce(total, already)`` once the stored runs are read, before any run
+        starts (``already``: runs of the study found finished in `out`).
 
     Returns
     -------
@@ -264,22 +291,36 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
     Raises
     ------
     linestep.bench.storage.ResultsFileError
-        `out` holds a results file that is not ours or has another schema.
+        `out` cannot be used: not a folder we may write, a results file that is not
+        ours, has another schema or is damaged beyond single rows. Damaged single
+        rows are skipped (listed in `Results.damaged`) and their runs run again.
+    linestep.bench._identity.UnidentifiableError
+        A controller, direction or stopping rule cannot be identified by content.
+    ValueError
+        Two runs of the study are the same computation (before any run starts).
     KeyboardInterrupt
-        Propagated after the pool is shut down; every finished run is already in
-        `out`.
+        Propagated after the pool's worker processes are ended; every finished run
+        is already in `out`.
+
+    Notes
+    -----
+    Building the runs' identities evaluates f and ∇f once at each starting point in
+    this process (the problem's fingerprint): an objective that kills the
+    interpreter at its start takes this process with it. Pool workers ignore
+    Ctrl-C (this process ends them) and exit by themselves when this process dies.
     """
     tasks = study.tasks()
-    store = None
-    if out is not None:
-        out = Path(out)
-        out.mkdir(parents=True, exist_ok=True)
-        store = storage.ResultStore(out / storage.FILE_NAME)
+    store = storage.ResultStore(Path(out) / storage.FILE_NAME) if out is not None else None
+    damaged: list[str] = []
     try:
         finished = {row["key"]: RunRecord.from_row(row)
                     for row in store.rows({t.key for t in tasks})} if store else {}
+        if store is not None:
+            damaged += store.damaged
         pending = [t for t in tasks if t.key not in finished]
         done = len(finished)
+        if announce is not None:
+            announce(len(tasks), done)
 
         def accept(row: dict[str, Any]) -> None:
             nonlocal done
@@ -297,7 +338,7 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
         if store is not None:
             store.close()
     return Results([finished[t.key] for t in tasks if t.key in finished],
-                   solve_rtol=study.solve_rtol)
+                   solve_rtol=study.solve_rtol, damaged=damaged)
 
 
 def _dispatch(tasks: list[_Task], accept: Callable[[dict[str, Any]], None], *,
@@ -321,7 +362,7 @@ def _dispatch(tasks: list[_Task], accept: Callable[[dict[str, Any]], None], *,
     else:
         tasks, problems = _by_slot(_prepare_for_processes(tasks, strict=True))
         make = functools.partial(ProcessPoolExecutor, max_workers=workers,
-                                 initializer=_install_problems, initargs=(problems,))
+                                 initializer=_install_problems, initargs=(problems, os.getpid()))
         _drain(tasks, accept, None, make, IN_FLIGHT_PER_WORKER * workers)
 
 
@@ -362,9 +403,35 @@ def _drain(tasks: list[_Task], accept: Callable[[dict[str, Any]], None], executo
                     broken = True
                     if not isolated:
                         suspects.append(task)
-    finally:
+    except BaseException:
         if make is not None:
-            executor.shutdown(wait=False, cancel_futures=True)
+            _end_pool(executor)
+        raise
+    if make is not None:
+        executor.shutdown(wait=False, cancel_futures=True)
+
+
+def _end_pool(executor: Any) -> None:
+    """Stop our pool at once (Ctrl-C or an error): cancel what waits, kill the workers,
+    with further Ctrl-C's held off so that the cleanup itself is not cut short."""
+    main = threading.current_thread() is threading.main_thread()
+    previous = signal.signal(signal.SIGINT, signal.SIG_IGN) if main else None
+    try:
+        processes = list((getattr(executor, "_processes", None) or {}).values())
+        executor.shutdown(wait=False, cancel_futures=True)
+        for process in processes:
+            try:
+                process.kill()
+            except (OSError, ValueError, AttributeError):
+                pass  # already gone
+        for process in processes:
+            try:
+                process.join(timeout=1.0)
+            except (OSError, ValueError, AssertionError, AttributeError):
+                pass
+    finally:
+        if main:
+            signal.signal(signal.SIGINT, previous)
 
 
 def _settle(future: Future, task: _Task, isolated: bool,

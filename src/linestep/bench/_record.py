@@ -7,6 +7,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Any
@@ -14,6 +15,7 @@ from typing import Any
 import numpy as np
 
 from linestep._descend import History
+from linestep.bench.problems import SOLVE_RTOL, close_to_optimum, optimum_below
 
 # Final points with more entries than this are not stored (they would bloat the file).
 STORED_POINT_LIMIT = 10_000
@@ -28,11 +30,19 @@ class RunRecord:
     Attributes
     ----------
     key : str
-        The run key (see `linestep.bench.storage.run_key`).
+        The run's identity: a digest of its content (see `linestep.bench._identity`).
+    slot, problem_fingerprint : str
+        The configuration on the named problem instance, and the problem's data
+        (name, dimension, start bytes, f and ∇f there, optima, solve_rtol); the key
+        digests both.
+    controller_id, direction_id, stop_id : str
+        Digests of the controller's, direction's and stopping rule's content: runs
+        are grouped into solvers by these, never by labels alone.
     problem, dimension
         The problem's name and n.
     controller : str
-        Its label (groups runs in reports); `controller_repr` rebuilds it exactly.
+        Its short label (see `linestep.bench._label`); `controller_repr` is the full
+        configuration.
     direction : str
         The direction's label.
     start : str
@@ -40,21 +50,22 @@ class RunRecord:
     seed : int or None
         The seed of a random start; None for deterministic starts.
     stop : str
-        The stopping rule's repr.
+        The stopping rule's label.
     kind, reason : str
         The verdict: ``converged``, ``budget`` or ``failed``, and why. A run that
         raised, or whose worker died, is ``failed`` and has `error` set.
     value, initial_value : float or None
         f at the end and at the start (None when the run raised before).
-    optimum : float or None
-        The known optimal value the gap is measured from (None when unknown).
-    gap : float or None
-        ``value − optimum`` (may be slightly negative: published optima are rounded).
-        For problems without a known optimum, `Results.gap` measures from the
-        best value any run reached.
-    solved : bool or None
-        |value − optimum| <= solve_rtol·max(1, |optimum|); None when no optimum is
-        known (see `Results.is_solved`).
+    optimal_values : tuple of float
+        The problem's known optimal values when the run was made (raw data).
+    solve_rtol : float
+        The solved tolerance in force when the run was made.
+    optimum, gap, solved
+        Derived when read, never stored (properties): the known optimal value the
+        gap is measured from (None when unknown); ``value − optimum`` (may be
+        slightly negative: published optima are rounded); whether
+        |value − optimum| <= solve_rtol·max(1, |optimum|) (None when no optimum is
+        known: see `Results.is_solved`, which judges against the best run).
     iterations, value_evaluations, gradient_evaluations : int
     seconds : float
         Wall time of the run inside the worker.
@@ -69,6 +80,11 @@ class RunRecord:
     """
 
     key: str
+    slot: str = ""
+    problem_fingerprint: str = ""
+    controller_id: str = ""
+    direction_id: str = ""
+    stop_id: str = ""
     problem: str
     dimension: int
     controller: str
@@ -81,9 +97,8 @@ class RunRecord:
     reason: str
     value: float | None
     initial_value: float | None
-    optimum: float | None
-    gap: float | None
-    solved: bool | None
+    optimal_values: tuple[float, ...] = ()
+    solve_rtol: float = SOLVE_RTOL
     iterations: int
     value_evaluations: int
     gradient_evaluations: int
@@ -99,6 +114,31 @@ class RunRecord:
         return self.value_evaluations + self.gradient_evaluations
 
     @property
+    def optimum(self) -> float | None:
+        """The known optimal value the gap is measured from (None when unknown or when
+        the run ended without a finite value)."""
+        if self.value is None or not math.isfinite(self.value):
+            return None
+        return optimum_below(tuple(self.optimal_values), self.value)
+
+    @property
+    def gap(self) -> float | None:
+        """``value − optimum`` (None without a known optimum)."""
+        optimum = self.optimum
+        return None if optimum is None else self.value - optimum
+
+    @property
+    def solved(self) -> bool | None:
+        """Whether `value` is within `solve_rtol` of a known optimum (None when none is
+        known; False when the run ended without a finite value)."""
+        if not self.optimal_values:
+            return None
+        if self.value is None or not math.isfinite(self.value):
+            return False
+        return any(close_to_optimum(self.value, v, self.solve_rtol)
+                   for v in self.optimal_values)
+
+    @property
     def instance(self) -> tuple[str, int, str, int | None]:
         """(problem, dimension, start, seed): the problem instance the run solved."""
         return (self.problem, self.dimension, self.start, self.seed)
@@ -107,6 +147,8 @@ class RunRecord:
         """A plain dict: numbers, strings, lists (the storage and export form)."""
         row = {field.name: getattr(self, field.name) for field in dataclasses.fields(self)}
         row["x"] = None if self.x is None else self.x.tolist()
+        row["optimal_values"] = [float(v) for v in self.optimal_values]
+        row["optimum"], row["gap"], row["solved"] = self.optimum, self.gap, self.solved
         if history:
             row["history"] = _history_to_json(self.history)
         else:
@@ -119,8 +161,11 @@ class RunRecord:
         values = dict(row)
         values["x"] = None if values.get("x") is None else np.asarray(values["x"], dtype=float)
         values["history"] = _history_from_json(values.get("history"))
+        values["optimal_values"] = tuple(float(v) for v in values.get("optimal_values") or ())
+        if values.get("solve_rtol") is None:
+            values["solve_rtol"] = SOLVE_RTOL
         names = {field.name for field in dataclasses.fields(cls)}
-        return cls(**{name: values.get(name) for name in names})
+        return cls(**{name: values[name] for name in names if name in values})
 
 
 def _history_to_json(history: History | None) -> dict[str, list] | None:

@@ -1,8 +1,13 @@
-"""`Results`: the records of a study, with the analysis that needs all runs at once."""
+"""`Results`: the records of a study, with the analysis that needs all runs at once.
+
+Every run has exactly one *outcome* (`Results.outcome`), defined in
+`OUTCOME_DEFINITIONS`, which the terminal table and the report print as they are.
+"""
 
 from __future__ import annotations
 
 import functools
+import hashlib
 import math
 from collections.abc import Callable, Iterator, Sequence
 from pathlib import Path
@@ -12,8 +17,21 @@ import numpy as np
 
 from linestep import _validate
 from linestep.bench import storage
+from linestep.bench._label import distinct_labels
 from linestep.bench._record import RunRecord
 from linestep.bench.problems import SOLVE_RTOL, close_to_optimum
+
+# The three outcomes of a run: every run is in exactly one.
+OUTCOMES = ("solved", "not solved", "failed")
+# Their definitions, printed under the ranking table and in the report.
+OUTCOME_DEFINITIONS = (
+    "solved: the final f is within solve_rtol·max(1, |f*|) of the known optimal value f* "
+    "(or of the best value any run reached, when f* is unknown), whatever stopped the run.\n"
+    "not solved: the run stopped (converged by its own test, or out of budget) away from "
+    "the optimum.\n"
+    "failed: the run was not solved and its stopping rule called it failed (divergence, "
+    "non-finite values, no progress), or it raised or its worker process died."
+)
 
 # --- results ------------------------------------------------------------------------------
 
@@ -32,18 +50,38 @@ class Results(Sequence):
     """
 
     def __init__(self, records: Sequence[RunRecord] | Iterator[RunRecord], *,
-                 solve_rtol: float = SOLVE_RTOL) -> None:
+                 solve_rtol: float = SOLVE_RTOL, damaged: Sequence[str] = ()) -> None:
         self.records = tuple(records)
         self.solve_rtol = solve_rtol
-        self._directions_vary = len({r.direction for r in self.records}) > 1
+        self.damaged = tuple(damaged)
+        self._directions_vary = len({_direction_of(r) for r in self.records}) > 1
         self._stops = {stop: i for i, stop in
-                       enumerate(dict.fromkeys(r.stop for r in self.records), start=1)}
+                       enumerate(dict.fromkeys(_stop_of(r) for r in self.records), start=1)}
+        self._labels = self._solver_labels()
+
+    def _solver_labels(self) -> dict[tuple, str]:
+        """One label per solver identity; identities whose labels agree get a tag."""
+        solvers = list(dict.fromkeys(_solver_of(r) for r in self.records))
+        labels = []
+        for solver in solvers:
+            record = next(r for r in self.records if _solver_of(r) == solver)
+            parts = [record.controller]
+            if self._directions_vary:
+                parts.append(record.direction)
+            if len(self._stops) > 1:
+                parts.append(f"stop #{self._stops[_stop_of(record)]}")
+            labels.append(" + ".join(parts))
+        tags = [hashlib.sha256("\n".join(solver).encode("utf-8")).hexdigest()
+                for solver in solvers]
+        return dict(zip(solvers, distinct_labels(list(zip(labels, tags, strict=True))),
+                        strict=True))
 
     @classmethod
     def load(cls, path: str | Path, *, solve_rtol: float = SOLVE_RTOL) -> Results:
         """Read a results file (or the folder holding ``results.sqlite``), read-only."""
         with storage.ResultStore(path, read_only=True) as store:
-            return cls([RunRecord.from_row(row) for row in store.rows()], solve_rtol=solve_rtol)
+            records = [RunRecord.from_row(row) for row in store.rows()]
+            return cls(records, solve_rtol=solve_rtol, damaged=store.damaged)
 
     def __len__(self) -> int:
         return len(self.records)
@@ -61,13 +99,9 @@ class Results(Sequence):
 
     def solver(self, record: RunRecord) -> str:
         """The solver label of a record: the controller, plus the direction and stopping
-        rule when the results hold several of those."""
-        parts = [record.controller]
-        if self._directions_vary:
-            parts.append(record.direction)
-        if len(self._stops) > 1:
-            parts.append(f"stop #{self._stops[record.stop]}")
-        return " + ".join(parts)
+        rule when the results hold several of those. Runs are grouped by the content
+        of these (their identities), so two different solvers never share a label."""
+        return self._labels[_solver_of(record)]
 
     def solvers(self) -> list[str]:
         """Solver labels in first-seen order."""
@@ -97,7 +131,16 @@ class Results(Sequence):
             return bool(record.solved)
         reference = self.reference(record.instance)
         return (reference is not None and record.value is not None
+                and math.isfinite(record.value)
                 and close_to_optimum(record.value, reference, self.solve_rtol))
+
+    def outcome(self, record: RunRecord) -> str:
+        """``"solved"``, ``"not solved"`` or ``"failed"``: exactly one per run (see
+        `OUTCOME_DEFINITIONS`). Solved wins over the verdict: a run stopped by `Stall`
+        at the optimum is solved, not failed."""
+        if self.is_solved(record):
+            return "solved"
+        return "failed" if record.kind == "failed" else "not solved"
 
     def gap(self, record: RunRecord) -> float | None:
         """value − optimum, or value − best value found for unknown optima."""
@@ -177,6 +220,7 @@ class Results(Sequence):
             row = record.to_row(history=history)
             row["gap"] = self.gap(record)
             row["solved"] = self.is_solved(record)
+            row["outcome"] = self.outcome(record)
             row["evaluations"] = record.evaluations
             row["solver"] = self.solver(record)
             rows.append(row)
@@ -195,3 +239,16 @@ _MEASURES: dict[str, Callable[[RunRecord], float]] = {
 
 def _measure(name: str) -> Callable[[RunRecord], float]:
     return _MEASURES[_validate.choice("measure", name, tuple(_MEASURES))]
+
+
+def _direction_of(record: RunRecord) -> str:
+    return record.direction_id or record.direction
+
+
+def _stop_of(record: RunRecord) -> str:
+    return record.stop_id or record.stop
+
+
+def _solver_of(record: RunRecord) -> tuple[str, str, str]:
+    """The identity of a record's solver (labels for records built without identities)."""
+    return (record.controller_id or record.controller, _direction_of(record), _stop_of(record))

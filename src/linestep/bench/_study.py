@@ -20,7 +20,8 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate, stopping
-from linestep.bench import storage
+from linestep.bench import _identity
+from linestep.bench._label import _without_addresses, distinct_labels, short_label
 from linestep.bench.problems import SOLVE_RTOL, Problem
 from linestep.bench.user import as_problems
 from linestep.directions import SteepestDescent
@@ -66,13 +67,13 @@ class Start:
         factor = _validate.finite_scalar("factor", factor)
         if factor == 0:
             raise ValueError("`factor` must be non-zero; got factor=0.0.")
-        return cls(f"x{factor:g}", scale=factor)
+        return cls(f"x{_exact(factor)}", scale=factor)
 
     @classmethod
     def perturbed(cls, noise: float) -> Start:
         """x_s plus seeded Gaussian noise of relative size `noise`."""
         noise = _validate.positive("noise", noise)
-        return cls(f"perturbed({noise:g})", noise=noise)
+        return cls(f"perturbed({_exact(noise)})", noise=noise)
 
     @classmethod
     def drawn(cls) -> Start:
@@ -99,6 +100,13 @@ class Start:
             size = max(1.0, float(np.max(np.abs(problem.start))))
             x = x + self.noise * size * _generator(problem, seed).standard_normal(x.shape)
         return x
+
+
+def _exact(number: float) -> str:
+    """The short form of `number` when it reads back exactly, else the full one:
+    starts that differ must never share a label (x10 and x10.0000001)."""
+    short = f"{number:g}"
+    return short if float(short) == number else repr(number)
 
 
 def _generator(problem: Problem, seed: int | None) -> np.random.Generator:
@@ -145,37 +153,6 @@ def unsupported_direction(controller: Any, direction: Any) -> bool:
 
 
 # --- the study ----------------------------------------------------------------------------
-
-
-def _short_label(thing: Any) -> str:
-    """The constructor call with only the arguments that differ from their defaults.
-
-    ``Wolfe(strong=False)``, ``Fallback(rule=Fixed(size=0.05), search=Armijo())``;
-    objects without ``_fields`` (the rebuilding-repr convention) keep their repr.
-    """
-    fields = getattr(thing, "_fields", None)
-    if fields is None or isinstance(thing, type):
-        return repr(thing)
-    cls = type(thing)
-    try:
-        defaults = {name: parameter.default for name, parameter
-                    in inspect.signature(cls).parameters.items()}
-    except (TypeError, ValueError):
-        defaults = {}
-    try:
-        reference = cls()
-    except Exception:  # classes with required arguments
-        reference = None
-    shown = []
-    for name in fields:
-        value = getattr(thing, name, None)
-        if reference is not None and repr(getattr(reference, name, None)) == repr(value):
-            continue
-        default = defaults.get(name, inspect.Parameter.empty)
-        if default is not inspect.Parameter.empty and repr(default) == repr(value):
-            continue
-        shown.append(f"{name}={_short_label(value)}")
-    return f"{cls.__name__}({', '.join(shown)})"
 
 
 def _entries(argument: str, given: Any) -> tuple[tuple[str | None, Any], ...]:
@@ -298,6 +275,13 @@ class Study:
         starts = tuple(self.starts) if isinstance(self.starts, Sequence) else (self.starts,)
         if not starts or not all(isinstance(s, Start) for s in starts):
             raise TypeError(f"`starts` must be a non-empty sequence of Start; got {starts!r}.")
+        labels = [start.label for start in starts]
+        repeated = sorted({label for label in labels if labels.count(label) > 1})
+        if repeated:
+            raise ValueError(
+                f"`starts` lists the start(s) {repeated} more than once; each start must "
+                "be given once (results are grouped by the start's label)."
+            )
         object.__setattr__(self, "starts", starts)
         seeds = tuple(_validate.integer("seeds", s, minimum=0) for s in self.seeds)
         if not seeds:
@@ -313,22 +297,44 @@ class Study:
                 )
 
     def tasks(self) -> list[_Task]:
-        """Every run of the study, each with fresh controller, direction and stop."""
+        """Every run of the study, each with fresh controller, direction and stop.
+
+        Raises
+        ------
+        linestep.bench._identity.UnidentifiableError
+            A controller, direction or stopping rule cannot be identified by content.
+        ValueError
+            Two runs of the study have one identity (the same computation listed
+            twice): refused before any work starts.
+        """
         tasks: list[_Task] = []
         for problem in self.problems:
             for start in self.starts:
                 for seed in self.seeds if start.random else (None,):
                     x0 = start.point(problem, seed)
+                    fingerprint = self._fingerprint(problem, start, seed, x0)
                     for direction_label, direction_spec in self.directions:
                         for controller_label, controller_spec in self.controllers:
-                            task = self._task(problem, start, seed, x0, controller_label,
-                                              controller_spec, direction_label, direction_spec)
+                            task = self._task(problem, start, seed, x0, fingerprint,
+                                              controller_label, controller_spec,
+                                              direction_label, direction_spec)
                             if task is not None:
                                 tasks.append(task)
-        return tasks
+        _refuse_collisions(tasks)
+        return _with_distinct_labels(tasks)
+
+    def _fingerprint(self, problem: Problem, start: Start, seed: int | None,
+                     x0: np.ndarray) -> str:
+        """The problem's fingerprint at this start (f and ∇f evaluated once per study)."""
+        cache = self.__dict__.setdefault("_fingerprints", {})
+        slot = (id(problem), start, seed)
+        if slot not in cache:
+            cache[slot] = _identity._hash(_identity.fingerprint_problem(
+                problem, x0, solve_rtol=self.solve_rtol))
+        return cache[slot]
 
     def _task(self, problem: Problem, start: Start, seed: int | None, x0: np.ndarray,
-              controller_label: str | None, controller_spec: Any,
+              fingerprint: str, controller_label: str | None, controller_spec: Any,
               direction_label: str | None, direction_spec: Any) -> _Task | None:
         if isinstance(controller_spec, PerProblem):
             controller = controller_spec.build(problem)
@@ -341,20 +347,60 @@ class Study:
         if self.exclude is not None and self.exclude(controller, direction):
             return None
         stop = _stop_fresh(self.stop)
+        identities = {
+            "controller_id": _identity.digest(controller, what="controller"),
+            "direction_id": _identity.digest(direction, what="direction"),
+            "stop_id": _identity.digest(stop, what="stopping rule"),
+        }
+        # The configuration on this named problem instance; a row with the same slot
+        # but another problem fingerprint is a stale result (the problem changed).
+        slot = _identity._hash([problem.name, problem.dimension, start.label, seed,
+                                *identities.values()])
         header = {
             "problem": problem.name, "dimension": problem.dimension,
-            "controller": controller_label or _short_label(controller),
-            "controller_repr": repr(controller),
-            "direction": direction_label or _short_label(direction),
-            "start": start.label, "seed": seed, "stop": repr(stop),
+            "controller": controller_label or short_label(controller),
+            "controller_repr": _full_repr(controller),
+            "direction": direction_label or short_label(direction),
+            "start": start.label, "seed": seed, "stop": short_label(stop),
+            **identities, "slot": slot, "problem_fingerprint": fingerprint,
+            "optimal_values": [float(v) for v in getattr(problem, "optimal_values", ())],
+            "solve_rtol": self.solve_rtol,
         }
-        key = storage.run_key(problem=problem.name, dimension=problem.dimension,
-                              controller_repr=header["controller_repr"],
-                              direction=repr(direction), start=start.label, seed=seed,
-                              stop=header["stop"])
+        key = _identity._hash([slot, fingerprint])
         return _Task(key=key, header=header, problem=problem, source=None,
                      controller=controller, direction=direction, stop=stop, x0=x0,
                      solve_rtol=self.solve_rtol)
 
     def __len__(self) -> int:
         return len(self.tasks())
+
+
+def _full_repr(thing: Any) -> str:
+    """The full configuration for the solver table (memory addresses removed)."""
+    return _without_addresses(repr(thing))
+
+
+def _refuse_collisions(tasks: list[_Task]) -> None:
+    """Two runs with one identity would be one computation stored once: refuse them."""
+    seen: dict[str, _Task] = {}
+    for task in tasks:
+        other = seen.setdefault(task.key, task)
+        if other is not task:
+            a, b = other.header, task.header
+            raise ValueError(
+                f"Two runs of this study are the same computation: {a['controller']!r} and "
+                f"{b['controller']!r} with direction {a['direction']!r} on problem "
+                f"{a['problem']!r} (start {a['start']!r}, seed {a['seed']}). A run is "
+                "identified by its content (every parameter of the controller, direction "
+                "and stopping rule, and the problem's data), so these would be stored as "
+                "one. List each configuration once."
+            )
+
+
+def _with_distinct_labels(tasks: list[_Task]) -> list[_Task]:
+    """Tag labels that different controllers (or directions) share, so none merge."""
+    for name, identity in (("controller", "controller_id"), ("direction", "direction_id")):
+        labels = distinct_labels([(t.header[name], t.header[identity]) for t in tasks])
+        for task, label in zip(tasks, labels, strict=True):
+            task.header[name] = label
+    return tasks

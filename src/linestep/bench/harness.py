@@ -30,7 +30,7 @@ Examples
 4
 >>> results = run_study(study, workers=1)
 >>> [(r.problem, r.controller, r.kind) for r in results][:2]
-[('rosenbrock', 'Armijo()', 'budget'), ('rosenbrock', 'Fixed(size=0.001)', 'budget')]
+[('rosenbrock', 'Armijo()', 'budget'), ('rosenbrock', 'Fixed(0.001)', 'budget')]
 """
 
 from linestep.bench._execute import run_study
