@@ -173,9 +173,21 @@ def _is_factory(item: Any) -> bool:
                              types.BuiltinFunctionType))
 
 
-def _fresh(item: Any) -> Any:
+def _fresh(item: Any, what: str = "controller") -> Any:
     """A new object from a spec: a class or factory is called, an instance deep-copied."""
-    return item() if _is_factory(item) else copy.deepcopy(item)
+    return item() if _is_factory(item) else _copy(item, what)
+
+
+def _copy(item: Any, what: str) -> Any:
+    """A deep copy for one run, or a TypeError saying how to give the object instead."""
+    try:
+        return copy.deepcopy(item)
+    except Exception as exc:  # noqa: BLE001 - any copy failure gets the same advice
+        raise TypeError(
+            f"The {what} {_without_addresses(repr(item))[:80]} cannot be copied for each run "
+            f"({type(exc).__name__}: {exc}). Runs never share state, so each needs its own "
+            f"copy; pass a class or a factory function that builds a fresh {what} instead."
+        ) from None
 
 
 def _stop_fresh(stop: Any) -> Any:
@@ -187,7 +199,7 @@ def _stop_fresh(stop: Any) -> Any:
         except (TypeError, ValueError):
             return stop  # a plain function criterion, called with a Progress: stateless
         return stop()
-    return copy.deepcopy(stop)
+    return _copy(stop, "stopping rule")
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -343,7 +355,7 @@ class Study:
             controller_label = controller_label or controller_spec.label
         else:
             controller = _fresh(controller_spec)
-        direction = _fresh(direction_spec)
+        direction = _fresh(direction_spec, "direction")
         if self.exclude is not None and self.exclude(controller, direction):
             return None
         stop = _stop_fresh(self.stop)
