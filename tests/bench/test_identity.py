@@ -226,8 +226,8 @@ def test_a_new_start_or_solve_rtol_reruns(tmp_path: Path) -> None:
     for study in (Study(problems=[_bowl(start=(3.0, -4.5))], controllers=[Armijo()], stop=SHORT),
                   Study(problems=[_bowl()], controllers=[Armijo()], stop=SHORT,
                         solve_rtol=1e-8)):
-        ran = []
-        run_study(study, tmp_path, workers=1, progress=lambda d, t, r: ran.append(r))
+        ran: list = []
+        run_study(study, tmp_path, workers=1, progress=lambda d, t, r, ran=ran: ran.append(r))
         assert len(ran) == 1
 
 

@@ -11,7 +11,6 @@ import pytest
 from linestep.bench import storage
 from linestep.bench.storage import COLUMNS, SCHEMA_VERSION, ResultsFileError, ResultStore
 
-
 # A stored history: equal-length arrays named as History's fields (inf survives JSON).
 _HISTORY = {"value": [1.0, math.inf, 0.5], "gradient_norm": [2.0, 1.0, 0.1],
             "size": [0.0, 1.0, 0.5], "values": [1, 2, 3], "gradients": [1, 2, 3],
