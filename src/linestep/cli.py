@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import html
 import os
+import signal
 import sys
 import time
 from collections.abc import Callable, Sequence
@@ -383,6 +384,9 @@ def _bench(args: argparse.Namespace) -> int:
                             progress=lambda *a: bar(*a) if bar is not None else None,
                             announce=announce)
     except KeyboardInterrupt:
+        # The workers are already ended and every finished run is saved: further
+        # Ctrl-C's must not turn this clean exit into a traceback.
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
         print(f"\nInterrupted. Finished runs are saved in {results_file}; run the same "
               "command again to resume.", file=sys.stderr)
         return 130
