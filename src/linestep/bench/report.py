@@ -33,6 +33,7 @@ from __future__ import annotations
 import base64
 import csv
 import datetime
+import hashlib
 import html
 import io
 import json
@@ -44,7 +45,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate
-from linestep.bench._results import Results
+from linestep.bench._results import OUTCOME_DEFINITIONS, Results
 from linestep.bench.profiles import (
     DEFAULT_LOG2_TAU_MAX,
     data_profile,
@@ -106,7 +107,7 @@ def ranking(results: Results, *, measure: str = "evaluations",
             "solver": solver,
             "runs": len(records),
             "solved": sum(results.is_solved(r) for r in records),
-            "failed": sum(r.kind == "failed" for r in records),
+            "failed": sum(results.outcome(r) == "failed" for r in records),
             "median": float(np.median(solved)) if solved.size else None,
             "score": float(scores[j]),
         })
@@ -118,7 +119,12 @@ def ranking(results: Results, *, measure: str = "evaluations",
 
 
 def _cut(text: str, width: int = LABEL_WIDTH) -> str:
-    return text if len(text) <= width else text[: width - 1] + "…"
+    """`text` within `width` characters; a cut label ends with a tag of the whole one, so
+    two labels that share their first characters never look alike."""
+    if len(text) <= width:
+        return text
+    tag = hashlib.sha256(text.encode("utf-8")).hexdigest()[:6]
+    return f"{text[: width - 9]}…[{tag}]"
 
 
 def _number(value: float | None) -> str:
@@ -157,9 +163,16 @@ def write_csv(results: Results, path: str | Path) -> Path:
         writer = csv.DictWriter(handle, fieldnames=CSV_COLUMNS, extrasaction="ignore")
         writer.writeheader()
         for row in results.to_rows():
-            writer.writerow({key: "" if row.get(key) is None else row[key]
+            writer.writerow({key: "" if row.get(key) is None else _cell(row[key])
                              for key in CSV_COLUMNS})
     return path
+
+
+def _cell(value: Any) -> Any:
+    """A text cell a spreadsheet would run as a formula (= + - @, tab, CR) gets a quote."""
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        return "'" + value
+    return value
 
 
 def _json_safe(value: Any) -> Any:
@@ -305,6 +318,10 @@ def convergence_figure(results: Results, instance: tuple) -> Any:
 
 
 def _encode(figure: Any, form: str = "png") -> bytes:
+    from matplotlib.text import Text
+
+    for text in figure.findobj(Text):  # names are plain text: `$` is not math
+        text.set_parse_math(False)
     buffer = io.BytesIO()
     figure.savefig(buffer, format=form, dpi=PNG_DPI)
     return buffer.getvalue()
@@ -399,6 +416,9 @@ def write_html(results: Results, path: str | Path, *, title: str = "linestep ben
         "performance profile on a log₂ τ axis from τ = 1 to 2¹⁰, divided by 10 (1 = cheapest "
         "on every problem, 0 = solves nothing within 1024 times the cheapest cost). "
         "Definitions: docs/bench/figures.md.</p>",
+        "<p class='note'>Every run has exactly one outcome:<br>"
+        + "<br>".join(html.escape(line) for line in OUTCOME_DEFINITIONS.splitlines())
+        + "</p>",
     ]
     if len(results):
         parts += ["<h2>Performance profile</h2>", _image(performance_figure(results)),
