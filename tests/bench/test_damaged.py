@@ -20,7 +20,7 @@ import pytest
 from linestep import Armijo, stopping
 from linestep.bench import Results, Study, as_problems, run_study
 from linestep.bench._results import OUTCOME_DEFINITIONS, OUTCOMES
-from linestep.bench.storage import ResultsFileError, ResultStore
+from linestep.bench.storage import ResultsFileError
 from linestep.cli import main
 from linestep.rules.fixed import Fixed
 
@@ -180,7 +180,7 @@ def test_csv_cells_that_a_spreadsheet_would_run_are_neutralised(tmp_path: Path) 
         rows = list(csv.DictReader(handle))
     for row in rows:
         for name, cell in row.items():
-            assert not cell[:1] in ("=", "+", "@") or name in ("value", "gap"), (name, cell)
+            assert cell[:1] not in ("=", "+", "@") or name in ("value", "gap"), (name, cell)
             if cell.startswith("-"):
                 float(cell)  # only numbers may start with a minus sign
     assert {row["problem"] for row in rows} == {"'=HYPERLINK(1)"}
