@@ -399,7 +399,7 @@ def _bench(args: argparse.Namespace) -> int:
         say(f"Results: {results_file}")
         return 0
     all_results = Results.load(results_file)
-    with storage.ResultStore(results_file, read_only=True) as store:
+    with storage.ResultStore.in_folder(out, read_only=True) as store:
         superseded = store.superseded()
     if superseded:
         say(f"note: {results_file} keeps {superseded} older run(s) of problems that have "

@@ -310,7 +310,7 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
     Ctrl-C (this process ends them) and exit by themselves when this process dies.
     """
     tasks = study.tasks()
-    store = storage.ResultStore(Path(out) / storage.FILE_NAME) if out is not None else None
+    store = storage.ResultStore.in_folder(out) if out is not None else None
     damaged: list[str] = []
     try:
         finished = {row["key"]: RunRecord.from_row(row)

@@ -37,6 +37,7 @@ import hashlib
 import json
 import math
 import pickle
+import re
 import types
 from typing import Any
 
@@ -315,7 +316,7 @@ def _qualified(cls: Any) -> str:
 
 def _safe_repr(thing: Any) -> str:
     try:
-        text = repr(thing)
+        text = re.sub(r" at 0x[0-9a-fA-F]+", "", repr(thing))
     except Exception:  # noqa: BLE001
         text = "<unprintable>"
     return text if len(text) <= 80 else text[:77] + "..."

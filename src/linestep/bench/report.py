@@ -76,6 +76,8 @@ LABEL_WIDTH = 64
 PNG_DPI = 90
 # Inches on the right of each figure for the legend (labels up to 52 characters).
 LEGEND_WIDTH = 3.8
+# Longest figure file name stem (file systems allow 255 bytes).
+SLUG_LIMIT = 120
 # Floor of the plotted gap f − f_ref, relative to max(1, |f_ref|), so log axes work.
 GAP_FLOOR = 1e-16
 
@@ -330,7 +332,10 @@ def _encode(figure: Any, form: str = "png") -> bytes:
 def _slug(instance: tuple) -> str:
     problem, dimension, start, seed = instance
     text = f"{problem}_n{dimension}_{start}" + ("" if seed is None else f"_seed{seed}")
-    return "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+    slug = "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+    if len(slug) > SLUG_LIMIT:  # file names have a length limit; keep them distinct
+        slug = slug[:SLUG_LIMIT - 9] + "_" + hashlib.sha256(text.encode()).hexdigest()[:8]
+    return slug
 
 
 def write_figures(results: Results, folder: str | Path, *, form: str = "png",

@@ -114,7 +114,8 @@ class ResultStore:
     Parameters
     ----------
     path : str or Path
-        The SQLite file; a folder means ``folder / "results.sqlite"``.
+        The SQLite file; an existing folder means ``folder / "results.sqlite"``
+        (`ResultStore.in_folder` always means the folder, existing or not).
     read_only : bool
         Open without writing anything (`linestep report`); the file must exist.
 
@@ -133,9 +134,15 @@ class ResultStore:
         `read_only` and the file does not exist.
     """
 
-    def __init__(self, path: str | Path, *, read_only: bool = False) -> None:
+    @classmethod
+    def in_folder(cls, folder: str | Path, *, read_only: bool = False) -> ResultStore:
+        """The results file of the study folder `folder` (created if needed)."""
+        return cls(Path(folder) / FILE_NAME, read_only=read_only, _exact=True)
+
+    def __init__(self, path: str | Path, *, read_only: bool = False,
+                 _exact: bool = False) -> None:
         path = Path(path)
-        if path.is_dir():
+        if path.is_dir() and not _exact:
             path = path / FILE_NAME
         self.path = path
         self.read_only = read_only
