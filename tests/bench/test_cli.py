@@ -163,3 +163,24 @@ def test_the_default_study_runs_and_writes_a_report(tmp_path: Path) -> None:
     assert (tmp_path / "linestep-results" / "results.sqlite").exists()
     assert (tmp_path / "linestep-results" / "report.html").exists()
     assert textwrap.dedent(result.stdout).splitlines()[0].split()[:2] == ["#", "controller"]
+
+
+def test_the_gradient_tolerance_option_is_named_like_the_library(capsys) -> None:
+    # issue 12 item 9: --gradient-atol, as stopping.default(gradient_atol=...)
+    args = cli.build_parser().parse_args(["bench", "--gradient-atol", "1e-3"])
+    study = cli.build_study(args, lambda text: None)
+    assert "atol=0.001" in repr(study.stop)
+    with pytest.raises(SystemExit):
+        cli.build_parser().parse_args(["bench", "--gradient-tol", "1e-3"])
+    assert "--gradient-tol" in capsys.readouterr().err
+
+
+def test_the_outcome_definitions_are_printed_under_the_table(tmp_path: Path, capsys) -> None:
+    from linestep.bench._results import OUTCOME_DEFINITIONS
+
+    status = cli.main(["bench", "quadratics", "--controllers", "armijo", "--workers", "1",
+                       "--max-iterations", "50", "--out", str(tmp_path), "--no-report"])
+    assert status == 0
+    out = capsys.readouterr().out
+    assert OUTCOME_DEFINITIONS in out
+    assert out.index(OUTCOME_DEFINITIONS) > out.index("score")
