@@ -406,7 +406,7 @@ def _(tmp: Path):
 @case("report of a folder that does not exist")
 def _(tmp: Path):
     status, _, err, escaped = cli("report", str(tmp / "nothing"))
-    return judge_error(status, err, escaped, "nothing")
+    return judge_error(status, err, escaped, f"--out {tmp / 'nothing'}")
 
 
 @case("report of an empty folder")
@@ -540,6 +540,39 @@ def _distinct_runs(tmp: Path, controllers, expected: int) -> tuple[str, str]:
 @case("two lambda schedules that print alike")
 def _(tmp: Path):
     return _distinct_runs(tmp, [Schedule(lambda k: 0.01), Schedule(lambda k: 0.2)], 2)
+
+
+@case("one label for two controllers across two studies in one folder")
+def _(tmp: Path):
+    run_study(Study(problems=bowls(1), controllers={"fast": Fixed(0.1)}, stop=SHORT), tmp,
+              workers=1)
+    run_study(Study(problems=bowls(1), controllers={"fast": Fixed(0.2)}, stop=SHORT), tmp,
+              workers=1)
+    results = Results.load(tmp)
+    if len(results.solvers()) != 2:
+        return WRONG, f"solvers {results.solvers()}"
+    return integrity(tmp, 2) or (STATUS, f"two solvers: {results.solvers()}")
+
+
+@case("a report read while a study writes")
+def _(tmp: Path):
+    folder = stored(tmp)
+    errors: list = []
+
+    def read() -> None:
+        for _ in range(20):
+            try:
+                Results.load(folder)
+            except Exception as exc:  # noqa: BLE001
+                errors.append(exc)
+
+    reader = threading.Thread(target=read)
+    reader.start()
+    run_study(study(problems=bowls(6, name="more")), folder, workers=1)
+    reader.join()
+    if errors:
+        return CRASH, repr(errors[0])
+    return integrity(folder, 6 + 18) or (STATUS, "reads and writes interleave")
 
 
 @case("exponential schedules with other rates")

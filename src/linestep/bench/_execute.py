@@ -112,6 +112,8 @@ def _watch_parent(parent: int, spawner: int) -> None:
 
 
 def _alive(pid: int) -> bool:
+    if os.name == "nt":  # os.kill(pid, 0) would end the process there: trust getppid
+        return True
     try:
         os.kill(pid, 0)
     except ProcessLookupError:
@@ -306,7 +308,10 @@ def run_study(study: Study, out: str | Path | None = None, *, workers: int | Non
     -----
     Building the runs' identities evaluates f and ∇f once at each starting point in
     this process (the problem's fingerprint): an objective that kills the
-    interpreter at its start takes this process with it. Pool workers ignore
+    interpreter at its start takes this process with it, and a stochastic objective
+    (another f(x0) at each call) gets a new fingerprint each time, so its runs are
+    run again and the older rows marked superseded (seed its generator to resume
+    such a study). Pool workers ignore
     Ctrl-C (this process ends them) and exit by themselves when this process dies.
     """
     tasks = study.tasks()

@@ -129,6 +129,7 @@ class _Describer:
     def __init__(self, what: str) -> None:
         self.what = what
         self.active: list[int] = []  # ids on the current path (cycles)
+        self.functions: dict[int, Any] = {}  # described functions (shared helpers once)
 
     def refuse(self, thing: Any, why: str) -> UnidentifiableError:
         return UnidentifiableError(
@@ -207,6 +208,11 @@ class _Describer:
         return self._object(thing, step)
 
     def _function(self, function: types.FunctionType, step: int) -> Any:
+        if id(function) not in self.functions:
+            self.functions[id(function)] = self._function_uncached(function, step)
+        return self.functions[id(function)]
+
+    def _function_uncached(self, function: types.FunctionType, step: int) -> Any:
         closure = [self.walk(cell.cell_contents, step) if _filled(cell) else ["empty"]
                    for cell in function.__closure__ or ()]
         return ["function", function.__module__, function.__qualname__,

@@ -150,10 +150,11 @@ class ResultStore:
         self._damaged_keys: set[str] = set()
         if read_only:
             if not path.exists():
+                # A missing folder was most likely meant as the study's folder.
+                folder = path.parent if path.suffix == ".sqlite" else path
                 raise FileNotFoundError(
                     f"No results file at {str(path)!r}. Run `linestep bench --out "
-                    f"{str(path.parent)}` first, or name the folder that holds "
-                    f"{FILE_NAME}."
+                    f"{folder}` first, or name the folder that holds {FILE_NAME}."
                 )
             uri = f"{path.resolve().as_uri()}?mode=ro"
             self._connection = self._connect(uri, uri=True)
