@@ -43,7 +43,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["UnidentifiableError", "describe", "digest", "fingerprint_problem"]
+__all__ = ["UnidentifiableError", "describe", "digest", "digest_description", "fingerprint_problem"]
 
 # Objects nested deeper than this are refused (a description must stay finite).
 MAX_DEPTH = 40
@@ -60,10 +60,11 @@ class UnidentifiableError(TypeError):
 
 def digest(thing: Any, *, what: str = "object") -> str:
     """SHA-256 hex digest of `describe(thing)`."""
-    return _hash(describe(thing, what=what))
+    return digest_description(describe(thing, what=what))
 
 
-def _hash(description: Any) -> str:
+def digest_description(description: Any) -> str:
+    """SHA-256 hex digest of a JSON-able description (`describe`, `fingerprint_problem`)."""
     text = json.dumps(description, separators=(",", ":"), sort_keys=False)
     return hashlib.sha256(text.encode("utf-8")).hexdigest()
 

@@ -341,7 +341,7 @@ class Study:
         cache = self.__dict__.setdefault("_fingerprints", {})
         slot = (id(problem), start, seed)
         if slot not in cache:
-            cache[slot] = _identity._hash(_identity.fingerprint_problem(
+            cache[slot] = _identity.digest_description(_identity.fingerprint_problem(
                 problem, x0, solve_rtol=self.solve_rtol))
         return cache[slot]
 
@@ -366,7 +366,7 @@ class Study:
         }
         # The configuration on this named problem instance; a row with the same slot
         # but another problem fingerprint is a stale result (the problem changed).
-        slot = _identity._hash([problem.name, problem.dimension, start.label, seed,
+        slot = _identity.digest_description([problem.name, problem.dimension, start.label, seed,
                                 *identities.values()])
         header = {
             "problem": problem.name, "dimension": problem.dimension,
@@ -378,7 +378,7 @@ class Study:
             "optimal_values": [float(v) for v in getattr(problem, "optimal_values", ())],
             "solve_rtol": self.solve_rtol,
         }
-        key = _identity._hash([slot, fingerprint])
+        key = _identity.digest_description([slot, fingerprint])
         return _Task(key=key, header=header, problem=problem, source=None,
                      controller=controller, direction=direction, stop=stop, x0=x0,
                      solve_rtol=self.solve_rtol)
