@@ -60,20 +60,18 @@ def make_calibration(seed: int = 7, count: int = 200) -> Calibration:
 
 
 def _controllers(problem: Calibration) -> list[tuple[str, Callable[[], object]]]:
-    entries: list[tuple[str, Callable[[], object]]] = [
-        (f"Fixed({TOO_LARGE_RATE})", lambda: Fixed(TOO_LARGE_RATE)),
-        (f"Fallback(Fixed({TOO_LARGE_RATE}), Armijo())",
-         lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo())),
-        ("Armijo()", lambda: Armijo()),
-    ]
-    try:
-        from linestep.rules.schedule import Schedule
-    except ImportError:  # pragma: no cover - the schedule module ships with the package
-        return entries
+    """(label, factory) pairs; labels in the benchmark's short form (`short_label`)."""
+    from linestep.bench._label import short_label
+    from linestep.rules.schedule import Schedule
+
     safe = 1.0 / problem.lipschitz
-    entries.append((f"Schedule.inverse_time({safe:.3g}, rate=0.01)",
-                    lambda: Schedule.inverse_time(safe, rate=0.01)))
-    return entries
+    builds: list[Callable[[], object]] = [
+        lambda: Fixed(TOO_LARGE_RATE),
+        lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo()),
+        lambda: Armijo(),
+        lambda: Schedule.inverse_time(safe, rate=0.01),
+    ]
+    return [(short_label(build()), build) for build in builds]
 
 
 def run_demo(print_line: Callable[[str], object] = print) -> list[tuple[str, Run]]:

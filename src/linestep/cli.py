@@ -13,6 +13,7 @@ import math
 import os
 import re
 import shlex
+import signal
 import sys
 import time
 import warnings
@@ -79,7 +80,7 @@ your objective (--objective module:function or path/to/file.py:function): the
 
 
 def _polyak_at_optimum() -> Any:
-    from linestep.bench.harness import polyak_at_optimum  # the harness loads on demand
+    from linestep.bench import polyak_at_optimum  # the harness loads on demand
 
     return polyak_at_optimum()
 
@@ -129,7 +130,7 @@ DEFAULT_DIRECTIONS = "steepest,lbfgs"
 DEFAULT_OUT = "linestep-results"
 # The command line's iteration budget: the default study must stay short.
 DEFAULT_MAX_ITERATIONS = 2000
-DEFAULT_GRADIENT_TOL = stopping.DEFAULT_GRADIENT_ATOL
+DEFAULT_GRADIENT_ATOL = stopping.DEFAULT_GRADIENT_ATOL
 
 
 class UsageError(Exception):
@@ -182,9 +183,9 @@ def _add_bench(commands: Any) -> None:
                        help=f"iteration budget per run (default: {DEFAULT_MAX_ITERATIONS})")
     bench.add_argument("--max-evaluations", metavar="N", type=_positive_int, default=None,
                        help="value + gradient evaluation budget per run (default: none)")
-    bench.add_argument("--gradient-tol", metavar="X", type=_positive_float,
-                       default=DEFAULT_GRADIENT_TOL,
-                       help=f"stop when max|∇f| <= X (default: {DEFAULT_GRADIENT_TOL:g})")
+    bench.add_argument("--gradient-atol", metavar="X", type=_positive_float,
+                       default=DEFAULT_GRADIENT_ATOL,
+                       help=f"stop when max|∇f| <= X (default: {DEFAULT_GRADIENT_ATOL:g})")
     bench.add_argument("--no-report", action="store_true", help="skip report.html")
     bench.add_argument("--quiet", action="store_true",
                        help="no progress bar and no table; print only the report's path")
@@ -281,7 +282,7 @@ def build_direction(name: str) -> Any:
 
 def build_start(name: str) -> Any:
     """The `Start` for a command-line name."""
-    from linestep.bench.harness import Start
+    from linestep.bench import Start
 
     base, _, argument = name.partition(":")
     try:
@@ -328,7 +329,7 @@ def _problems(args: argparse.Namespace, say: Callable[[str], None]) -> list[Any]
 
 def build_study(args: argparse.Namespace, say: Callable[[str], None]) -> Any:
     """The `Study` described by the `bench` arguments."""
-    from linestep.bench.harness import Study
+    from linestep.bench import Study
 
     names = _split(args.controllers) if args.controllers else DEFAULT_CONTROLLERS
     if not names:
@@ -338,7 +339,7 @@ def build_study(args: argparse.Namespace, say: Callable[[str], None]) -> Any:
     if not directions:
         raise UsageError("--directions is empty.")
     starts = [build_start(name) for name in _split(args.starts)]
-    stop = stopping.default(gradient_atol=args.gradient_tol, max_iterations=args.max_iterations,
+    stop = stopping.default(gradient_atol=args.gradient_atol, max_iterations=args.max_iterations,
                             max_evaluations=args.max_evaluations)
     return Study(problems=_problems(args, say), controllers=controllers, directions=directions,
                  starts=starts, seeds=range(args.seeds), stop=stop)
@@ -447,8 +448,7 @@ def _print_ranking(results: Any) -> None:
 
 
 def _bench(args: argparse.Namespace) -> int:
-    from linestep.bench import storage
-    from linestep.bench.harness import Results, run_study
+    from linestep.bench import Results, run_study, storage
     from linestep.bench.report import MAX_CONVERGENCE_PLOTS
 
     def say(text: str) -> None:
@@ -457,35 +457,43 @@ def _bench(args: argparse.Namespace) -> int:
 
     study = build_study(args, say)
     out = Path(args.out)
-    tasks = study.tasks()
     results_file = out / storage.FILE_NAME
-    already = 0
-    if results_file.exists():
-        with storage.ResultStore(results_file) as store:
-            already = len(store.keys() & {task.key for task in tasks})
+    if out.exists() and not out.is_dir():
+        raise UsageError(f"--out {args.out!r} is a file, not a folder; name a folder "
+                         "(it is created if needed).")
     count = len(study.problems)
-    runs = (f"linestep bench: {len(tasks)} runs ({count} problem{'s' if count > 1 else ''})")
     bar = None
-    if already == len(tasks):
-        say(f"{runs}, all already in {results_file}: nothing left to run.")
-    else:
+
+    def announce(total: int, already: int) -> None:
+        nonlocal bar
+        runs = f"linestep bench: {total} runs ({count} problem{'s' if count > 1 else ''})"
+        if already == total:
+            say(f"{runs}, all already in {results_file}: nothing left to run.")
+            return
         where = (f"the Dask cluster at {args.scheduler}" if args.scheduler else
                  "this process" if args.workers == 1 else
                  f"{args.workers or os.cpu_count()} worker processes")
-        say(f"{runs}; {already} already in {results_file}; running {len(tasks) - already} "
+        say(f"{runs}; {already} already in {results_file}; running {total - already} "
             f"on {where}.")
-        bar = None if args.quiet else progress_bar(len(tasks), already)
-        if bar is None and not args.quiet:
+        if args.quiet:
+            return
+        bar = progress_bar(total, already)
+        if bar is None:
             say('note: tqdm is not installed, so there is no progress bar (pip install '
                 '"linestep[bench]").')
+
     try:
         with warnings.catch_warnings(), _quiet_workers():
             # numpy's overflow warnings inside linestep are handled (a diverging fixed
             # rate ends as a failed run with its reason); the user's own code still warns
             warnings.filterwarnings("ignore", category=RuntimeWarning, module=r"linestep\.")
             results = run_study(study, out, workers=args.workers, scheduler=args.scheduler,
-                                progress=None if bar is None else partial(_advance, bar))
+                                progress=lambda *a: _advance(bar, *a) if bar is not None
+                                else None, announce=announce)
     except KeyboardInterrupt:
+        # The workers are already ended and every finished run is saved: further
+        # Ctrl-C's must not turn this clean exit into a traceback.
+        signal.signal(signal.SIGINT, signal.SIG_IGN)
         if bar is not None:
             bar.close()
         print(f"\nInterrupted. Finished runs are saved in {results_file}; run the same "
@@ -493,6 +501,8 @@ def _bench(args: argparse.Namespace) -> int:
         return 130
     if bar is not None:
         bar.close()
+    for sentence in results.damaged:
+        say(f"warning: {sentence}")
     if not args.quiet:
         _print_ranking(results)
         note = _budget_note(results, args)
@@ -502,13 +512,25 @@ def _bench(args: argparse.Namespace) -> int:
         say(f"Results: {results_file}")
         return 0
     all_results = Results.load(results_file)
+    with storage.ResultStore.in_folder(out, read_only=True) as store:
+        superseded = store.superseded()
+    if superseded:
+        say(f"note: {results_file} keeps {superseded} older run(s) of problems that have "
+            "changed since; they are marked superseded and left out of the report.")
     if len(all_results) > len(results):
         say(f"note: {results_file} also holds {len(all_results) - len(results)} runs of other "
             "studies; the report covers them all.")
     plots = min(len(all_results.instances()), MAX_CONVERGENCE_PLOTS)
     say(f"Writing the report ({plots} convergence plot{'s' if plots != 1 else ''})…")
     started = time.perf_counter()
-    report = _write_report(all_results, out, results_file, say)
+    try:
+        report = _write_report(all_results, out, results_file, say)
+    except Exception as exc:  # noqa: BLE001 - the runs are saved whatever went wrong here
+        print(f"linestep bench: error: the report could not be written to "
+              f"{out / 'report.html'} ({type(exc).__name__}: {exc}). The "
+              f"{len(all_results)} runs are saved in {results_file}; write the report "
+              f"later with `linestep report {shlex.quote(str(out))} --html`.", file=sys.stderr)
+        return 2
     say(f"Report written in {time.perf_counter() - started:.1f} s.")
     print(f"Report: {report}")
     return 0
@@ -539,8 +561,7 @@ def _tables_only_report(results: Any, out: Path) -> Path:
 
 
 def _report(args: argparse.Namespace) -> int:
-    from linestep.bench import storage
-    from linestep.bench.harness import Results
+    from linestep.bench import Results, storage
     from linestep.bench.report import write_report
 
     folder = Path(args.folder)
@@ -553,13 +574,20 @@ def _report(args: argparse.Namespace) -> int:
             f"that holds {storage.FILE_NAME}."
         )
     results = Results.load(results_file)
+    for sentence in results.damaged:
+        print(f"warning: {sentence}", file=sys.stderr)
     _print_ranking(results)
     if args.html or args.csv or args.json or args.figures:
         target = results_file.parent
         if args.html or args.figures:
             print("Writing the report…", file=sys.stderr)
-        written = write_report(results, target, html=args.html, csv=args.csv, json=args.json,
-                               figures=args.figures, reason_wording=command_line_wording)
+        try:
+            written = write_report(results, target, html=args.html, csv=args.csv,
+                                   json=args.json, figures=args.figures,
+                                   reason_wording=command_line_wording)
+        except OSError as exc:
+            raise UsageError(f"could not write the report into {str(target)!r} ({exc}); "
+                             "the stored runs are unchanged.") from None
         for kind, path in written.items():
             print(f"{kind}: {path}")
     return 0

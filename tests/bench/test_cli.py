@@ -58,7 +58,7 @@ def test_a_user_objective_end_to_end(tmp_path: Path) -> None:
     assert bench.returncode == 0, bench.stderr
     assert "decay_fit" not in bench.stderr  # no error text
     assert f"Report: {out / 'report.html'}" in bench.stdout
-    assert "Armijo()" in bench.stdout and "Fixed(size=0.001)" in bench.stdout
+    assert "Armijo()" in bench.stdout and "Fixed(0.001)" in bench.stdout
     with sqlite3.connect(out / "results.sqlite") as connection:
         rows = connection.execute("SELECT problem, controller, kind FROM runs").fetchall()
     assert sorted(rows)[0][0] == "decay_fit" and len(rows) == 3
@@ -231,3 +231,25 @@ def test_handled_overflow_warnings_do_not_reach_the_user(tmp_path: Path) -> None
                   str(tmp_path / "out"), cwd=tmp_path)
     assert result.returncode == 0, result.stderr
     assert "RuntimeWarning" not in result.stderr
+
+
+def test_the_gradient_tolerance_option_is_named_like_the_library(capsys) -> None:
+    # issue 12 item 9: --gradient-atol, as stopping.default(gradient_atol=...)
+    args = cli.build_parser().parse_args(["bench", "--gradient-atol", "1e-3"])
+    study = cli.build_study(args, lambda text: None)
+    assert "atol=0.001" in repr(study.stop)
+    with pytest.raises(SystemExit):
+        cli.build_parser().parse_args(["bench", "--gradient-tol", "1e-3"])
+    assert "--gradient-tol" in capsys.readouterr().err
+
+
+def test_the_outcome_definitions_are_printed_under_the_table(tmp_path: Path, capsys) -> None:
+    from linestep.bench._results import OUTCOMES
+
+    status = cli.main(["bench", "quadratics", "--controllers", "armijo", "--workers", "1",
+                       "--max-iterations", "50", "--out", str(tmp_path), "--no-report"])
+    assert status == 0
+    out = capsys.readouterr().out
+    for word, text in OUTCOMES:  # one legend line per outcome, under the table
+        line = next(line for line in out.splitlines() if line.startswith(word + ":"))
+        assert text in line and out.index(line) > out.index("score")

@@ -38,6 +38,7 @@ from __future__ import annotations
 import base64
 import csv
 import datetime
+import hashlib
 import html
 import io
 import json
@@ -49,8 +50,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate
-from linestep.bench.harness import Results
-from linestep.bench.problems import SOLVE_RTOL
+from linestep.bench._results import OUTCOMES, Results
 from linestep.bench.profiles import (
     DEFAULT_LOG2_TAU_MAX,
     data_profile,
@@ -89,6 +89,8 @@ LABEL_WIDTH = 64
 PNG_DPI = 90
 # Inches on the right of each figure for the legend (labels up to 52 characters).
 LEGEND_WIDTH = 3.8
+# Longest figure file name stem (file systems allow 255 bytes).
+SLUG_LIMIT = 120
 # Floor of the plotted gap f − f_ref, relative to max(1, |f_ref|), so log axes work.
 GAP_FLOOR = 1e-16
 
@@ -121,7 +123,7 @@ def ranking(results: Results, *, measure: str = "evaluations",
             "solver": solver,
             "runs": len(records),
             "solved": sum(results.is_solved(r) for r in records),
-            "failed": sum(r.kind == "failed" for r in records),
+            "failed": sum(results.outcome(r) == "failed" for r in records),
             "median": float(np.median(solved)) if solved.size else None,
             "score": float(scores[j]),
             "column": j,
@@ -231,7 +233,12 @@ def single_instance_note(results: Results) -> str | None:
 
 
 def _cut(text: str, width: int = LABEL_WIDTH) -> str:
-    return text if len(text) <= width else text[: width - 1] + "…"
+    """`text` within `width` characters; a cut label ends with a tag of the whole one, so
+    two labels that share their first characters never look alike."""
+    if len(text) <= width:
+        return text
+    tag = hashlib.sha256(text.encode("utf-8")).hexdigest()[:6]
+    return f"{text[: width - 9]}…[{tag}]"
 
 
 def _number(value: float | None) -> str:
@@ -258,10 +265,7 @@ def format_ranking(rows: Sequence[dict[str, Any]], *, measure: str = "evaluation
 
 # What the ranking's columns mean, one line each (the terminal legend and the HTML note).
 LEGEND = (
-    ("solved", f"final f within {SOLVE_RTOL:g}·max(1, |f*|) of the optimum f* (of the best "
-               "value any run reached if f* is unknown)"),
-    ("failed", "verdict `failed`: diverged, stalled, the controller could not move, or the "
-               "objective raised"),
+    *OUTCOMES,
     ("evaluations", "values + gradients evaluated; the median counts solved runs only"),
     ("score", f"area under the performance profile up to τ = 2^{DEFAULT_LOG2_TAU_MAX:g}, "
               f"over {DEFAULT_LOG2_TAU_MAX:g}: 1 = cheapest everywhere, 0 = nothing solved"),
@@ -288,9 +292,16 @@ def write_csv(results: Results, path: str | Path) -> Path:
         writer = csv.DictWriter(handle, fieldnames=CSV_COLUMNS, extrasaction="ignore")
         writer.writeheader()
         for row in results.to_rows():
-            writer.writerow({key: "" if row.get(key) is None else row[key]
+            writer.writerow({key: "" if row.get(key) is None else _cell(row[key])
                              for key in CSV_COLUMNS})
     return path
+
+
+def _cell(value: Any) -> Any:
+    """A text cell a spreadsheet would run as a formula (= + - @, tab, CR) gets a quote."""
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        return "'" + value
+    return value
 
 
 def _json_safe(value: Any) -> Any:
@@ -527,6 +538,10 @@ def convergence_figure(results: Results, instance: tuple) -> Any:
 
 
 def _encode(figure: Any, form: str = "png") -> bytes:
+    from matplotlib.text import Text
+
+    for text in figure.findobj(Text):  # names are plain text: `$` is not math
+        text.set_parse_math(False)
     buffer = io.BytesIO()
     figure.savefig(buffer, format=form, dpi=PNG_DPI)
     return buffer.getvalue()
@@ -535,7 +550,10 @@ def _encode(figure: Any, form: str = "png") -> bytes:
 def _slug(instance: tuple) -> str:
     problem, dimension, start, seed = instance
     text = f"{problem}_n{dimension}_{start}" + ("" if seed is None else f"_seed{seed}")
-    return "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+    slug = "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
+    if len(slug) > SLUG_LIMIT:  # file names have a length limit; keep them distinct
+        slug = slug[:SLUG_LIMIT - 9] + "_" + hashlib.sha256(text.encode()).hexdigest()[:8]
+    return slug
 
 
 def write_figures(results: Results, folder: str | Path, *, form: str = "png",
