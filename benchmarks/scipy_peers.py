@@ -5,9 +5,11 @@
   use it) as a linestep controller, so the same `descend` loop and L-BFGS
   direction drive it. Each evaluation scipy makes is counted exactly once: scipy
   calls the counting objective through a cache keyed on x, and the accepted
-  point is rebuilt from that cache (scipy always evaluates f and ∇f at the step
-  it returns). Anything missing there would be evaluated and counted, and
-  `recomputed` says how often that happened.
+  point is rebuilt from that cache. scipy evaluates f and ∇f at the step it
+  returns, except when its extrapolation reaches ``maxiter``: it then returns
+  the last trial with f only, and the adapter evaluates ∇f there (any driver
+  needs it for the next direction); that evaluation is counted, and
+  `recomputed` says how often it happened.
 * `lbfgsb`: ``scipy.optimize.minimize(method="L-BFGS-B")`` with m = 10
   (``maxcor``), the max-norm gradient test at the same tolerance as the linestep
   runs (``gtol`` is L-BFGS-B's projected-gradient max-norm, identical without
