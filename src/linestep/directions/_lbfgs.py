@@ -133,16 +133,17 @@ class LBFGS(_Rebuildable):
         with np.errstate(over="ignore", invalid="ignore"):  # overflow → skip or restart
             if self._pairs is None:
                 self._allocate(x_flat.size, x_flat.dtype)
+                np.copyto(self._previous_gradient, g)
+                products = None
             else:
-                self._update(x_flat, g)
+                products = self._update(x_flat, g)
             np.copyto(self._previous_x, x_flat)
-            np.copyto(self._previous_gradient, g)
             self._shape = shape
             self.restarted = False
             if self.stored == 0:
                 d = self._steepest(g)
             else:
-                d = self._direction(g)
+                d = self._direction(g, products)
                 if not _is_descent(g, d) and g.any():
                     self._forget()
                     self.restarted = True
@@ -169,14 +170,20 @@ class LBFGS(_Rebuildable):
         slots = self.memory + 1
         self._pairs = np.zeros((2 * slots, size), dtype=dtype)
         self._s, self._y = self._pairs[:slots], self._pairs[slots:]
+        # Row 0: the new y; row 1: ∇f of the previous call. One product of the history
+        # with both rows gives sᵢᵀy, yᵢᵀy (for the update) and sᵢᵀ∇f, yᵢᵀ∇f (for d).
+        self._columns = np.zeros((2, size), dtype=dtype)
+        self._previous_gradient = self._columns[1]
         self._previous_x = np.empty(size, dtype=dtype)
-        self._previous_gradient = np.empty(size, dtype=dtype)
         self._scaled = np.empty(size, dtype=dtype)  # γ·g
-        self._inverse_r = np.zeros((slots, slots))  # R⁻¹, R_ij = s_iᵀy_j for i no newer than j
-        self._yy = np.zeros((slots, slots))  # YᵀY
-        self._sy = np.zeros(slots)  # D = diag(s_iᵀy_i)
-        self._used = np.zeros(slots)  # 1.0 at the slots in use
-        self._middle = np.zeros((2 * slots, 2 * slots))  # −(the middle matrix), below
+        # −N, the negated middle matrix of `_direction`; R⁻¹ (R_ij = s_iᵀy_j for pair i
+        # no newer than pair j, zero rows and columns at unused slots); YᵀY; D.
+        self._middle = np.zeros((2 * slots, 2 * slots))
+        self._inverse_r = np.zeros((slots, slots))
+        self._yy = np.zeros((slots, slots))
+        self._sy = np.zeros(slots)
+        self._core = np.zeros((slots, slots))  # −(D + γ·YᵀY)
+        self._core_diagonal = self._core.reshape(-1)[::slots + 1]  # a view
         self._floor = skip_floor(self.curvature_tolerance, dtype)
         self._gamma = 1.0
         self._newest = 0  # slot of the newest pair
@@ -188,29 +195,37 @@ class LBFGS(_Rebuildable):
         self.stored = 0
         self._ages = []
         self._inverse_r.fill(0.0)
-        self._yy.fill(0.0)
-        self._sy.fill(0.0)
-        self._used.fill(0.0)
 
-    def _update(self, x: np.ndarray, g: np.ndarray) -> None:
-        """Form s and y in the free slot and keep them as the newest pair unless skipped."""
+    def _update(self, x: np.ndarray, g: np.ndarray) -> np.ndarray:
+        """Form s and y in the free slot, keep them as the newest pair unless skipped,
+        and return the products of the history with [y, g]."""
         slots = self.memory + 1
         free = (self._newest + 1) % slots
-        s, y = self._s[free], self._y[free]
+        columns = self._columns
+        s = self._s[free]
         np.subtract(x, self._previous_x, out=s)
-        np.subtract(g, self._previous_gradient, out=y)
+        np.subtract(g, self._previous_gradient, out=columns[0])  # y
+        np.copyto(self._y[free], columns[0])
+        np.copyto(self._previous_gradient, g)
+        # Rows of unused slots hold stale pairs; the zero rows and columns of the small
+        # matrices at those slots cancel them.
+        products = self._pairs @ columns.T
         ss = float(s @ s)
         if ss == 0.0 and not s.any():
-            return  # x did not move: no new curvature information
-        # sᵢᵀy and yᵢᵀy for every slot, the new pair's own sᵀy and yᵀy among them.
-        products = self._pairs @ y
-        curvature, yy = float(products[free]), float(products[slots + free])
+            return products  # x did not move: no new curvature information
+        curvature, yy = float(products[free, 0]), float(products[slots + free, 0])
         scale = math.sqrt(ss) * math.sqrt(yy)
         if not (curvature > self._floor * scale
                 and math.isfinite(curvature) and math.isfinite(scale)):
             self.skipped += 1
-            return
-        self._append(free, products, curvature, yy)
+            # Clear the slot so that a non-finite pair cannot reach the products
+            # (0·inf in the small products would be NaN).
+            s.fill(0.0)
+            self._y[free].fill(0.0)
+            products[free] = products[slots + free] = 0.0
+            return products
+        self._append(free, products[:, 0], curvature, yy)
+        return products
 
     def _append(self, free: int, products: np.ndarray, curvature: float, yy: float) -> None:
         """Make the pair in slot `free` the newest; drop the oldest when memory is full.
@@ -218,53 +233,49 @@ class LBFGS(_Rebuildable):
         In time order R is upper triangular, so appending a pair borders R⁻¹ with one
         column (−R⁻¹c/sᵀy above 1/sᵀy, c the sᵢᵀy of the older pairs), and dropping the
         oldest pair leaves the inverse of R's trailing block, which is R⁻¹'s trailing
-        block: its row and column are simply cleared. Indexed by slot, with zero rows
-        and columns for unused slots, both are a few O(m²) operations.
+        block: in slot indexing its row is cleared (its column holds only the diagonal
+        entry). Every slot not in use then has a zero row and column in R⁻¹, which
+        cancel whatever stale numbers YᵀY, D and the products hold there.
         """
         slots = self.memory + 1
-        inverse_r, yys, sys, ages = self._inverse_r, self._yy, self._sy, self._ages
+        inverse_r, yys, ages = self._inverse_r, self._yy, self._ages
         if len(ages) == self.memory:  # drop the oldest pair
-            oldest = ages.pop(0)
-            inverse_r[oldest, :] = 0.0
-            inverse_r[:, oldest] = 0.0
-            yys[oldest, :] = 0.0
-            yys[:, oldest] = 0.0
-            sys[oldest] = 0.0
-            self._used[oldest] = 0.0
-        # R⁻¹'s zero columns at unused slots (the free one among them) cancel the
-        # products with stale rows there.
+            inverse_r[ages.pop(0)] = 0.0
         column = inverse_r @ products[:slots]
         column *= -1.0 / curvature
         inverse_r[:, free] = column
         inverse_r[free, free] = 1.0 / curvature
-        row = products[slots:] * self._used  # only the pairs kept: no stale rows in YᵀY
-        yys[free, :] = row
+        row = products[slots:]
+        yys[free] = row
         yys[:, free] = row
         yys[free, free] = yy
-        self._used[free] = 1.0
-        sys[free] = curvature
+        self._sy[free] = curvature
         ages.append(free)
         self.stored = len(ages)
         self._newest = free
         gamma = self._gamma = curvature / yy  # N&W eq. 7.20
-        # The middle matrix of H = γI + [S Y]·N·[S Y]ᵀ (BNS 1994, eq. 2.6 with H0 = γI),
-        # N = [[R⁻ᵀ(D + γYᵀY)R⁻¹, −γR⁻ᵀ], [−γR⁻¹, 0]]; stored negated, for d = −H·g.
-        middle = self._middle
-        middle[:slots, :slots] = inverse_r.T @ (sys[:, np.newaxis] * inverse_r
-                                                + gamma * (yys @ inverse_r))
-        np.negative(middle[:slots, :slots], out=middle[:slots, :slots])
+        # −N = [[R⁻ᵀ·C·R⁻¹, γR⁻ᵀ], [γR⁻¹, 0]] with C = −(D + γ·YᵀY).
+        core, middle = self._core, self._middle
+        np.multiply(yys, -gamma, out=core)
+        self._core_diagonal -= self._sy
+        np.matmul(inverse_r.T @ core, inverse_r, out=middle[:slots, :slots])
         np.multiply(inverse_r.T, gamma, out=middle[:slots, slots:])
-        middle[slots:, :slots] = middle[:slots, slots:].T
+        np.multiply(inverse_r, gamma, out=middle[slots:, :slots])
 
-    def _direction(self, g: np.ndarray) -> np.ndarray:
+    def _direction(self, g: np.ndarray, products: np.ndarray | None) -> np.ndarray:
         """−H·g from the compact form (Byrd, Nocedal & Schnabel 1994):
 
-        H·g = γ·g + [S Y]·N·([S Y]ᵀg): one product of the history with g, one small
-        (2m+2)-square product, one combination of the history's rows. Rows of unused
-        slots meet zero rows and columns of N.
+        H = γI + [S Y]·N·[S Y]ᵀ with N = [[R⁻ᵀ(D + γ·YᵀY)R⁻¹, −γR⁻ᵀ], [−γR⁻¹, 0]]
+        (their eq. 2.6 with H0 = γI), so −H·g = −γ·g + [S Y]·(−N)·([S Y]ᵀg): the
+        product of the history with g (`products`, shared with the update), one small
+        product and one combination of the history's rows.
         """
         pairs = self._pairs
-        weights = self._middle @ (pairs @ g)
+        if products is None:
+            coefficients = pairs @ g
+        else:
+            coefficients = products[:, 1]
+        weights = self._middle @ coefficients
         if weights.dtype != pairs.dtype:  # float32 history: d in x's dtype
             weights = weights.astype(pairs.dtype)
         d = weights @ pairs
@@ -279,6 +290,9 @@ def _flat_views(x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
     LBFGS copies what it keeps into its own buffers, so a numpy caller's arrays are
     read in place (a JAX or other array is converted to numpy once here).
     """
+    if (x.__class__ is gradient.__class__ is np.ndarray and x.ndim == 1
+            and x.dtype is gradient.dtype and x.dtype.kind == "f" and x.shape == gradient.shape):
+        return x, gradient  # the common call from a loop
     x_np = np.asarray(x)
     if x_np.dtype.kind == "c":
         raise TypeError(f"LBFGS works with real arrays; got `x` of dtype {x_np.dtype}.")
