@@ -133,7 +133,7 @@ class LBFGS(_Rebuildable):
         with np.errstate(over="ignore", invalid="ignore"):  # overflow → skip or restart
             if self._pairs is None:
                 self._allocate(x_flat.size, x_flat.dtype)
-                np.copyto(self._previous_gradient, g)
+                np.copyto(self._columns[1], g)
                 products = None
             else:
                 products = self._update(x_flat, g)
@@ -169,11 +169,11 @@ class LBFGS(_Rebuildable):
         """
         slots = self.memory + 1
         self._pairs = np.zeros((2 * slots, size), dtype=dtype)
-        self._s, self._y = self._pairs[:slots], self._pairs[slots:]
         # Row 0: the new y; row 1: ∇f of the previous call. One product of the history
         # with both rows gives sᵢᵀy, yᵢᵀy (for the update) and sᵢᵀ∇f, yᵢᵀ∇f (for d).
+        # (No attribute holds a view into another array: copies and pickles of a
+        # direction in mid-run must stay whole.)
         self._columns = np.zeros((2, size), dtype=dtype)
-        self._previous_gradient = self._columns[1]
         self._previous_x = np.empty(size, dtype=dtype)
         self._scaled = np.empty(size, dtype=dtype)  # γ·g
         # −N, the negated middle matrix of `_direction`; R⁻¹ (R_ij = s_iᵀy_j for pair i
@@ -183,12 +183,16 @@ class LBFGS(_Rebuildable):
         self._yy = np.zeros((slots, slots))
         self._sy = np.zeros(slots)
         self._core = np.zeros((slots, slots))  # −(D + γ·YᵀY)
-        self._core_diagonal = self._core.reshape(-1)[::slots + 1]  # a view
         self._floor = skip_floor(self.curvature_tolerance, dtype)
         self._gamma = 1.0
         self._newest = 0  # slot of the newest pair
         self._ages: list[int] = []  # slots in use, oldest first
         self.stored = 0
+
+    @property
+    def _s(self) -> np.ndarray | None:
+        """The s rows of the history (one per slot), or None before the first call."""
+        return None if self._pairs is None else self._pairs[:self.memory + 1]
 
     def _forget(self) -> None:
         """Drop every pair (the buffers stay allocated)."""
@@ -202,14 +206,15 @@ class LBFGS(_Rebuildable):
         slots = self.memory + 1
         free = (self._newest + 1) % slots
         columns = self._columns
-        s = self._s[free]
+        pairs = self._pairs
+        s = pairs[free]
         np.subtract(x, self._previous_x, out=s)
-        np.subtract(g, self._previous_gradient, out=columns[0])  # y
-        np.copyto(self._y[free], columns[0])
-        np.copyto(self._previous_gradient, g)
+        np.subtract(g, columns[1], out=columns[0])  # y; row 1 holds the previous ∇f
+        np.copyto(pairs[slots + free], columns[0])
+        np.copyto(columns[1], g)
         # Rows of unused slots hold stale pairs; the zero rows and columns of the small
         # matrices at those slots cancel them.
-        products = self._pairs @ columns.T
+        products = pairs @ columns.T
         ss = float(s @ s)
         if ss == 0.0 and not s.any():
             return products  # x did not move: no new curvature information
@@ -221,7 +226,7 @@ class LBFGS(_Rebuildable):
             # Clear the slot so that a non-finite pair cannot reach the products
             # (0·inf in the small products would be NaN).
             s.fill(0.0)
-            self._y[free].fill(0.0)
+            pairs[slots + free].fill(0.0)
             products[free] = products[slots + free] = 0.0
             return products
         self._append(free, products[:, 0], curvature, yy)
@@ -257,7 +262,7 @@ class LBFGS(_Rebuildable):
         # −N = [[R⁻ᵀ·C·R⁻¹, γR⁻ᵀ], [γR⁻¹, 0]] with C = −(D + γ·YᵀY).
         core, middle = self._core, self._middle
         np.multiply(yys, -gamma, out=core)
-        self._core_diagonal -= self._sy
+        core.reshape(-1)[::slots + 1] -= self._sy  # the diagonal, as a view
         np.matmul(inverse_r.T @ core, inverse_r, out=middle[:slots, :slots])
         np.multiply(inverse_r.T, gamma, out=middle[:slots, slots:])
         np.multiply(inverse_r, gamma, out=middle[slots:, :slots])
