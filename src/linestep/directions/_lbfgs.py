@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _validate
-from linestep.directions._base import _as_output, _is_descent, _Rebuildable
+from linestep.directions._base import _as_output, _Rebuildable
 
 
 class LBFGS(_Rebuildable):
@@ -144,10 +144,14 @@ class LBFGS(_Rebuildable):
                 d = self._steepest(g)
             else:
                 d = self._direction(g, products)
-                if not _is_descent(g, d) and g.any():
+                # A finite gᵀd proves d finite too (an inf or NaN entry makes it inf or NaN).
+                slope = float(g @ d)
+                if not (slope < 0.0 and math.isfinite(slope)) and g.any():
                     self._forget()
                     self.restarted = True
                     d = self._steepest(g)
+        if x.__class__ is np.ndarray and x.ndim == 1:
+            return d  # already x's kind and shape
         return _as_output(x, d)
 
     # -- internals ----------------------------------------------------------------
