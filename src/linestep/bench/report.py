@@ -376,8 +376,14 @@ def _format(value: Any) -> str:
 
 def write_html(results: Results, path: str | Path, *, title: str = "linestep benchmark report",
                source: str | None = None,
-               convergence_limit: int = MAX_CONVERGENCE_PLOTS) -> Path:
-    """One self-contained HTML file: tables and base64-embedded PNG plots, no external files."""
+               convergence_limit: int = MAX_CONVERGENCE_PLOTS, preface: str | None = None) -> Path:
+    """One self-contained HTML file: tables and base64-embedded PNG plots, no external files.
+
+    It opens with `preface` (an HTML fragment, e.g. the Recommendation section of
+    ``linestep advise``), if given, then one recommendation sentence per direction
+    family (the rule of `linestep.advice`: robustness first, then cost).
+    """
+    from linestep.advice import recommendation_sentences
     rows = ranking(results)
     created = datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
     instances = results.instances()
@@ -385,6 +391,8 @@ def write_html(results: Results, path: str | Path, *, title: str = "linestep ben
         f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
         f"<title>{html.escape(title)}</title><style>{_STYLE}</style></head><body>",
         f"<h1>{html.escape(title)}</h1>",
+        preface or "",
+        "".join(f"<p><b>{html.escape(text)}</b></p>" for text in recommendation_sentences(results)),
         f"<p class='note'>{len(results)} runs on {len(instances)} problem instances, "
         f"{len(rows)} solvers. Written {created}"
         + (f" from <code>{html.escape(source)}</code>" if source else "") + ".</p>",
