@@ -29,6 +29,8 @@ LIMIT_FRACTION = 2.0
 # The pace test: iterations whose decrease shrinks by less than this factor each time, from
 # the very first one, move like a rate below 0.1/L on a 1-D quadratic: (1 − 0.1)² = 0.81.
 SLOW_PACE = (1.0 - SMALL_FRACTION) ** 2
+# The last rises the growth factor of a diverging loss is read from.
+GROWTH_ITERATIONS = 6
 # The iterations the pace test averages over, from the start.
 PACE_ITERATIONS = 5
 # The reduction the projected iteration count in the reason refers to.
@@ -155,11 +157,13 @@ def _numbers(name: str, data: Any) -> np.ndarray:
     if isinstance(data, numbers.Real):
         data = [data]
     try:
-        array = np.asarray(data, dtype=float)
+        raw = np.asarray(data)
+        if raw.dtype.kind not in "fiub":
+            raise TypeError
+        array = raw.astype(float)
     except (TypeError, ValueError):
-        bad = _first_bad(data)
-        raise TypeError(f"`{name}` must hold numbers only; entry {bad} is not a number. "
-                        "Pass the losses as floats (e.g. loss.item() for a tensor).") from None
+        raise TypeError(f"`{name}` must hold numbers only; entry {_first_bad(data)} is not a "
+                        "number. Pass floats (e.g. loss.item() for a tensor).") from None
     if array.ndim != 1:
         raise ValueError(f"`{name}` must be one number per iteration (1-D); got shape "
                          f"{array.shape}.")
@@ -169,9 +173,7 @@ def _numbers(name: str, data: Any) -> np.ndarray:
 def _first_bad(data: Any) -> str:
     try:
         for index, item in enumerate(data):
-            try:
-                float(item)
-            except (TypeError, ValueError):
+            if not isinstance(item, (numbers.Real, np.number)) or isinstance(item, bool):
                 return f"{index} ({item!r})"
     except TypeError:
         return repr(data)
@@ -318,19 +320,24 @@ class _Reader:
         return None
 
     def growth(self) -> float | None:
-        """The loss's growth factor per iteration over its rising tail (for L̂ from values)."""
+        """The loss's growth factor per iteration over its last rises (for L̂ from values):
+        the gap to the lowest value, over the final run of consecutive rises (at most
+        GROWTH_ITERATIONS), where it dwarfs whatever f* is."""
         values = self.values
-        tail = values[-min(values.size, WINDOW):]
         lowest = float(np.min(values))
-        gaps = tail - lowest
-        positive = gaps > 0
-        if positive.sum() < 2:
+        end = values.size - 1
+        first = end
+        while first > 0 and end - first < GROWTH_ITERATIONS and values[first - 1] < values[first]:
+            first -= 1
+        if end - first < 1:
             return None
-        index = np.flatnonzero(positive)
-        first, last = index[0], index[-1]
-        if last == first or gaps[last] <= gaps[first]:
+        low, high = values[first] - lowest, values[end] - lowest
+        if not low > 0.0:
+            first += 1
+            low = values[first] - lowest
+        if end - first < 1 or not low > 0.0 or not high > low:
             return None
-        return float((gaps[last] / gaps[first]) ** (1.0 / (last - first)))
+        return float((high / low) ** (1.0 / (end - first)))
 
     def pace(self) -> tuple[float, int] | None:
         """The factor by which each iteration's decrease shrank, from the start (mean of
@@ -439,7 +446,7 @@ class _Reader:
             return self.result("fits", None, (
                 f"The loss fell by {drop:.3g} and settled within {used + 1} iterations: "
                 "the step size works."), self.rate)
-        if used < MIN_DECREASES:
+        if used < MIN_DECREASES and factor >= SLOW_PACE**2:
             return self.result("undetermined", None, (
                 f"Only {used} decreases to judge the pace by; pass at least "
                 f"{MIN_DECREASES + 1} iterations, or xs and gradients."))
@@ -462,5 +469,5 @@ class _Reader:
                 f"{math.log(STATED_REDUCTION) / math.log(SLOW_PACE):.0f} of a rate of "
                 f"0.1/L): {rate_text} probably below 0.1/L."), suggested)
         return self.result("fits", None, (
-            f"The loss fell in every iteration and its early decreases shrank by "
-            f"{factor:.2f} per iteration, the pace of a rate near 1/L or above."), self.rate)
+            f"The loss fell in every iteration, each early decrease about {factor:.2g} of "
+            "the one before: the pace of a rate near 1/L or above."), self.rate)
