@@ -4,11 +4,11 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from tests.advice import scenario
 
 import linestep
 from linestep import LBFGS, Objective, SteepestDescent, advise
 from linestep.advice import recommendation_sentences, standings
-from tests.advice import scenario
 
 SCALES = np.array([1.0, 4.0, 400.0])  # invented bowl with one steep direction
 
@@ -45,7 +45,7 @@ def test_steepest_recommendation_is_fresh_pasteable_and_explained():
 def test_rule_is_robustness_first_then_cost():
     advice = advise(bowl(), np.zeros(3), loop="steepest", starts=2, budget=8_000)
     rows = advice.standings
-    for better, worse in zip(rows, rows[1:]):
+    for better, worse in zip(rows, rows[1:], strict=False):
         assert (better.fraction > worse.fraction
                 or (better.fraction == worse.fraction
                     and (worse.median is None or better.median <= worse.median)))

@@ -47,7 +47,7 @@ def test_bad_spec_and_bad_budget_exit_2(tmp_path, capsys):
 
 
 def test_any_study_report_opens_with_one_sentence_per_direction(tmp_path):
-    from linestep import Armijo, LBFGS, SteepestDescent, Wolfe
+    from linestep import LBFGS, Armijo, SteepestDescent, Wolfe
     from linestep.bench import Study, get_problem, run_study
     from linestep.bench.report import write_html
 

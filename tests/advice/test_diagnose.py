@@ -6,9 +6,9 @@ from collections import Counter
 
 import numpy as np
 import pytest
+from tests.advice._histories import gradient_descent, history_table
 
 from linestep import Armijo, Fixed, descend, diagnose, stopping
-from tests.advice._histories import gradient_descent, history_table
 
 # --- hand-worked cases: f(x) = 2x² (L = 4), x₀ = 1, x_{k+1} = (1 − 4·rate)·x_k -------------
 

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import math
 import numbers
-from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 

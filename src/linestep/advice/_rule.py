@@ -94,7 +94,7 @@ def recommendation_sentences(results: Any) -> list[str]:
     for standing in standings(results):
         by_family.setdefault(_family(standing.direction), []).append(standing)
     sentences = []
-    for family, rows in by_family.items():
+    for rows in by_family.values():
         best = rows[0]
         count = len(rows)
         if best.solved == 0:
