@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import pickle
 import sys
 from collections.abc import Callable, Sequence
@@ -35,6 +36,10 @@ __all__ = ["Advice", "advise"]
 DEFAULT_BUDGET = 50_000
 # Fewest evaluations a run may get; a smaller share means the budget is too small.
 MIN_RUN_EVALUATIONS = 40
+# The first round gets this fraction of the budget; when no set-up solves from every start,
+# the rest goes to the FINALISTS most promising set-ups (no failed run, least gap left).
+FIRST_ROUND_FRACTION = 0.5
+FINALISTS = 3
 # Room left in each run's share for its last iteration (checked once per iteration).
 ITERATION_ALLOWANCE = 10
 # Relative size of the perturbed starts: x0 + NOISE·max(1, ‖x0‖∞)·z, z standard normal.
@@ -141,6 +146,12 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     then cost*: the set-up solving from the most starts, then with the fewest
     median evaluations (`linestep.advice._rule`).
 
+    The study runs in up to two rounds. The first gives every run an equal share
+    of half the budget. When no set-up solved from every start, the rest of the
+    budget goes to the three most promising set-ups (no failed run; the least
+    median fraction of the gap f − f_ref left), whose runs are repeated with the
+    larger share and replace their first-round runs.
+
     Set-ups tried along the negative gradient: fixed rates 0.5/L̂, 1/L̂ and 1.8/L̂
     from `estimate_smoothness` at x0, an inverse-time schedule from 1/L̂,
     `Armijo`, `Wolfe`, `HagerZhang`, `MoreThuente`, `NonmonotoneArmijo`,
@@ -161,8 +172,8 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
         descent, L-BFGS and nonlinear CG).
     budget : int, optional
         Total evaluations (values + gradients) for the whole study, the
-        smoothness probe included; default `DEFAULT_BUDGET` (50,000). Each run
-        gets an equal share; a run may overshoot its share by its last iteration.
+        smoothness probe included; default `DEFAULT_BUDGET` (50,000). A run may
+        overshoot its share by its last iteration (a few evaluations).
     starts : int
         x0 plus ``starts − 1`` perturbed starts.
     seed : int or sequence of int
@@ -213,43 +224,92 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     workers = _validate.integer("workers", workers)
     seeds, probe_seed = _seeds(seed, starts)
     problem = _problem(objective, x0, f_min)
-    from linestep.bench import Start, Study, run_study
+    from linestep.bench import Results, Start
 
     smoothness = _probe(problem, probe_seed)
     setups = _setups(loop, smoothness, problem)
     starts_list = [Start.standard()] + ([Start.perturbed(START_NOISE)] if seeds else [])
-    runs = len(setups) * (1 + len(seeds))
+    count = 1 + len(seeds)
+    runs = len(setups) * count
     budget = DEFAULT_BUDGET if budget is None else _validate.integer("budget", budget)
-    share = (budget - smoothness.evaluations.total) // runs - ITERATION_ALLOWANCE
+    available = budget - smoothness.evaluations.total
+    share = int(available * FIRST_ROUND_FRACTION) // runs - ITERATION_ALLOWANCE
     if share < MIN_RUN_EVALUATIONS:
-        least = smoothness.evaluations.total + runs * (MIN_RUN_EVALUATIONS + ITERATION_ALLOWANCE)
+        least = smoothness.evaluations.total + math.ceil(
+            runs * (MIN_RUN_EVALUATIONS + ITERATION_ALLOWANCE) / FIRST_ROUND_FRACTION)
         raise ValueError(f"`budget` of {budget} evaluations is too small for {runs} runs "
-                         f"({len(setups)} set-ups × {1 + len(seeds)} starts); give at least "
+                         f"({len(setups)} set-ups × {count} starts); give at least "
                          f"{least}, or fewer `starts`.")
     if workers > 1 and not _travels(problem):
         workers = 1  # the harness would refuse: functions defined in place do not pickle
+    rounds = partial(_round, problem, [Start.standard()] + (
+        [Start.perturbed(START_NOISE)] if seeds else []), seeds or (0,), out, workers)
+    report = _progress(progress, runs)
+    try:
+        records = rounds(setups, share, report, 0, runs)
+        results = Results(records)
+        finalists = _finalists(results, setups)
+        second = (available - sum(r.evaluations for r in records)) // max(
+            len(finalists) * count, 1) - ITERATION_ALLOWANCE
+        if finalists and second > share:
+            # no set-up solved from every start: the most promising ones get the rest
+            total = runs + len(finalists) * count
+            again = rounds(finalists, second, report, runs, total)
+            replaced = {(s.controller, s.direction) for s in finalists}
+            records = [r for r in records if (r.controller, r.direction) not in replaced]
+            records += again
+    finally:
+        if report is not None:
+            _close(report)
+    results = Results(records, solve_rtol=results.solve_rtol)
+    spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
+    return _advice(results, setups, smoothness, loop=loop, budget=budget, spent=spent)
+
+
+def _round(problem: Any, starts: list[Any], seeds: tuple[int, ...], out: Any, workers: int,
+           setups: list[_SetUp], share: int, report: Any, offset: int,
+           total: int) -> list[Any]:
+    """Run `setups` from every start with `share` evaluations per run (one Study per
+    direction, through the bench harness); return the records."""
+    from linestep.bench import Study, run_study
+
     stop = stopping.default(max_iterations=share, max_evaluations=share)
     families: dict[str, list[_SetUp]] = {}
     for setup in setups:
         families.setdefault(setup.direction, []).append(setup)
-    report = _progress(progress, runs)
     records: list[Any] = []
-    solve_rtol = None
     for direction, members in families.items():
         study = Study(problems=[problem],
                       controllers={s.controller: s.build_controller for s in members},
                       directions={direction: members[0].build_direction},
-                      starts=starts_list, seeds=seeds or (0,), stop=stop, exclude=None)
-        offset = len(records)
-        callback = None if report is None else partial(_shifted, report, offset, runs)
-        results = run_study(study, out, workers=workers, progress=callback)
-        records += list(results)
-        solve_rtol = results.solve_rtol
-    if report is not None:
-        _close(report)
-    results = type(results)(records, solve_rtol=solve_rtol)
-    spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
-    return _advice(results, setups, smoothness, loop=loop, budget=budget, spent=spent)
+                      starts=starts, seeds=seeds, stop=stop, exclude=None)
+        callback = None if report is None else partial(
+            _shifted, report, offset + len(records), total)
+        records += list(run_study(study, out, workers=workers, progress=callback))
+    return records
+
+
+def _finalists(results: Any, setups: list[_SetUp]) -> list[_SetUp]:
+    """When no set-up solved from every start: up to FINALISTS set-ups with no failed run,
+    ranked by their median remaining fraction of the gap (f − f_ref)/(f₀ − f_ref)."""
+    ranked = standings(results)
+    if not ranked or ranked[0].solved == ranked[0].runs:
+        return []
+    progress: dict[tuple[str, str], list[float]] = {}
+    failed: set[tuple[str, str]] = set()
+    for record in results:
+        key = (record.controller, record.direction)
+        reference = results.reference(record.instance)
+        if record.kind == "failed" or record.value is None or reference is None:
+            failed.add(key)
+            continue
+        start = record.initial_value - reference
+        progress.setdefault(key, []).append(
+            (record.value - reference) / start if start > 0 else 0.0)
+    order = sorted((float(np.median(gaps)), index, key) for index, (key, gaps)
+                   in enumerate(progress.items()) if key not in failed)
+    by_key = {(s.controller, s.direction): s for s in setups}
+    return [by_key[key] for _, _, key in order[:FINALISTS] if key in by_key]
 
 
 # --- the problem -----------------------------------------------------------------------
@@ -409,7 +469,8 @@ class _TextBar:
     def __init__(self, total: int) -> None:
         self.total, self.tenth = total, -1
 
-    def update(self, done: int) -> None:
+    def update(self, done: int, total: int) -> None:
+        self.total = total
         tenth = 10 * done // max(self.total, 1)
         if tenth > self.tenth:
             self.tenth = tenth
@@ -425,7 +486,9 @@ class _TqdmBar:
 
         self.bar = tqdm(total=total, desc="linestep advise", unit="run", leave=False)
 
-    def update(self, done: int) -> None:
+    def update(self, done: int, total: int) -> None:
+        if total != self.bar.total:
+            self.bar.total = total
         self.bar.update(done - self.bar.n)
 
     def close(self) -> None:
@@ -449,7 +512,7 @@ def _progress(progress: Any, total: int) -> Any:
 
 def _shifted(report: Any, offset: int, total: int, done: int, _: int, record: Any) -> None:
     if isinstance(report, (_TqdmBar, _TextBar)):
-        report.update(offset + done)
+        report.update(offset + done, total)
     else:
         report(offset + done, total, record)
 
