@@ -115,9 +115,9 @@ def diagnose(values: Any, *, rates: Any = None, xs: Any = None,
     'too_large'
     >>> print(d.reason)  # doctest: +NORMALIZE_WHITESPACE
     The loss rose in 5 of the last 6 iterations, to 31 from 3 at the start; its growth
-    (×1.8 per iteration) puts the stable limit at 2/L̂ = 0.43, below your rate 0.5.
+    (×2.92 per iteration) puts the stable limit at 2/L̂ = 0.369, below your rate 0.5.
     >>> round(d.suggested_rate, 3)
-    0.214
+    0.185
     """
     values, rates, xs, gradients, note = _unpack(values, rates, xs, gradients)
     values = _numbers("values", values)
@@ -419,8 +419,8 @@ class _Reader:
             lipschitz = (1.0 + math.sqrt(growth)) / self.rate
             self.evidence["lipschitz_from"] = "growth of the loss"
             return self.result("too_large", lipschitz, (
-                f"{text}its growth (×{growth:.2g} per iteration) puts the stable limit at "
-                f"2/L̂ = {LIMIT_FRACTION / lipschitz:.2g}, below your rate {self.rate:.3g}."))
+                f"{text}its growth (×{growth:.3g} per iteration) puts the stable limit at "
+                f"2/L̂ = {LIMIT_FRACTION / lipschitz:.3g}, below your rate {self.rate:.3g}."))
         advice = (f"try a rate about 10 times smaller than {self.rate:.3g}, or a line search"
                   if self.rate else "pass `rates=` to get a suggested rate")
         return self.result("too_large", None, text + "the step overshoots; " + advice + ".",
@@ -462,11 +462,12 @@ class _Reader:
                 self.evidence["path_curvature"] = curvature
             rate_text = f"your rate {self.rate:.3g} is" if self.rate else "the rate is"
             return self.result("too_small", lipschitz, (
-                f"From the first iteration on, each decrease of the loss was {factor:.2f} "
-                f"of the one before (a {STATED_REDUCTION:g}-fold slowdown would take "
-                f"{projected:.0f} iterations, more than the "
-                f"{math.log(STATED_REDUCTION) / math.log(SLOW_PACE):.0f} of a rate of "
-                f"0.1/L): {rate_text} probably below 0.1/L."), suggested)
+                f"From the first iteration on, each decrease of the loss was {factor:.2f} of "
+                f"the one before: at that pace the decrease takes {projected:.0f} iterations "
+                f"to shrink {1 / STATED_REDUCTION:g}-fold, against "
+                f"{math.log(STATED_REDUCTION) / math.log(SLOW_PACE):.0f} at a rate of 0.1/L "
+                f"on a one-dimensional quadratic; {rate_text} probably below 0.1/L."),
+                suggested)
         return self.result("fits", None, (
             f"The loss fell in every iteration, each early decrease about {factor:.2g} of "
             "the one before: the pace of a rate near 1/L or above."), self.rate)
