@@ -161,3 +161,17 @@ def test_bad_arguments(arguments, error, words):
     values = {"objective": bowl(), "x0": np.zeros(3), **arguments}
     with pytest.raises(error, match=words):
         advise(values.pop("objective"), values.pop("x0"), **values)
+
+
+def test_second_round_spends_the_rest_on_the_most_promising_setups():
+    # steepest descent on Rosenbrock's valley (MGH problem 1): nothing solves in a first
+    # round of about 100 evaluations per run
+    from linestep.bench import get_problem
+
+    advice = advise(get_problem("rosenbrock"), loop="steepest", starts=2, budget=6_000)
+    rules = {record.stop for record in advice.study}
+    assert len(rules) == 2  # the first round's evaluation cap and the second's
+    sizes = sorted(sum(record.stop == rule for record in advice.study) for rule in rules)
+    assert sizes[0] == 3 * 2  # three finalists from both starts
+    assert sizes[1] == len(advice.standings) * 2 - 3 * 2
+    assert advice.evaluations <= advice.budget

@@ -57,3 +57,13 @@ def test_any_study_report_opens_with_one_sentence_per_direction(tmp_path):
     head = text[: text.index("<h2>Ranking</h2>")]
     assert head.count("<p><b>With ") == 2
     assert "With SteepestDescent(), use" in head and "With LBFGS(), use" in head
+
+
+def test_demo_shows_the_diagnosis_of_its_diverging_fixed_rate():
+    from linestep._demo import TOO_LARGE_RATE, run_demo
+
+    lines: list[str] = []
+    run_demo(lines.append)
+    [line] = [text for text in lines if "diagnose(run)" in text]
+    assert f"Fixed({TOO_LARGE_RATE})" in line and "too_large" in line
+    assert "below your rate 1" in line

@@ -88,7 +88,8 @@ class Advice:
     standings : tuple of Standing
         Every set-up, best first by the rule (`linestep.advice._rule`).
     evaluations : int
-        Evaluations spent: the smoothness probe plus every run.
+        Evaluations of the smoothness probe plus every run of both rounds (runs
+        found already finished in `out` count what they spent then).
     budget : int
         The budget the study was given.
     loop : str
@@ -247,6 +248,7 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     report = _progress(progress, runs)
     try:
         records = rounds(setups, share, report, 0, runs)
+        spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
         results = Results(records)
         finalists = _finalists(results, setups)
         second = (available - sum(r.evaluations for r in records)) // max(
@@ -255,6 +257,7 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
             # no set-up solved from every start: the most promising ones get the rest
             total = runs + len(finalists) * count
             again = rounds(finalists, second, report, runs, total)
+            spent += sum(r.evaluations for r in again)
             replaced = {(s.controller, s.direction) for s in finalists}
             records = [r for r in records if (r.controller, r.direction) not in replaced]
             records += again
@@ -262,7 +265,6 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
         if report is not None:
             _close(report)
     results = Results(records, solve_rtol=results.solve_rtol)
-    spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
     return _advice(results, setups, smoothness, loop=loop, budget=budget, spent=spent)
 
 
