@@ -102,7 +102,7 @@ def fresh_run(problem, controller, direction, cap: int) -> tuple[bool, int]:
 def grid(problem, cap: int) -> tuple[float, str]:
     from linestep import SteepestDescent
 
-    entries = {"Armijo()": Armijo(), "Armijo(previous)": Armijo(initial=PreviousTrial(2.0)),
+    entries = {"Armijo()": Armijo(), "Armijo(previous)": Armijo(initial=PreviousTrial(growth=2.0)),
                "Wolfe()": Wolfe(), "Wolfe(strong=False)": Wolfe(strong=False),
                "MoreThuente()": MoreThuente(), "HagerZhang()": HagerZhang(),
                "NonmonotoneArmijo()": NonmonotoneArmijo(),

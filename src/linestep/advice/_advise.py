@@ -150,15 +150,16 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     The study runs in up to two rounds. The first gives every run an equal share
     of half the budget. When no set-up solved from every start, the rest of the
     budget goes to the three most promising set-ups (no failed run; the least
-    median fraction of the gap f − f_ref left), whose runs are repeated with the
-    larger share and replace their first-round runs.
+    median fraction of the gap f − f_ref left; the best of each direction family
+    first), whose runs are repeated with the larger share and replace their
+    first-round runs.
 
     Set-ups tried along the negative gradient: fixed rates 0.5/L̂, 1/L̂ and 1.8/L̂
     from `estimate_smoothness` at x0, an inverse-time schedule from 1/L̂,
     `Armijo`, `Wolfe`, `HagerZhang`, `MoreThuente`, `NonmonotoneArmijo`,
     `BarzilaiBorwein`, `Polyak` (when `f_min` is known) and
     ``Fallback(Fixed(1.8/L̂), Armijo())``. With `LBFGS`: the unit step, `Armijo`,
-    `Wolfe`, `MoreThuente`, `HagerZhang` and ``Fallback(Fixed(1.0), Armijo())``.
+    `Wolfe`, `MoreThuente` and `HagerZhang`.
     With `NonlinearCG`: `Wolfe`, `HagerZhang`, `MoreThuente`.
 
     Parameters
@@ -293,11 +294,14 @@ def _round(problem: Any, starts: list[Any], seeds: tuple[int, ...], out: Any, wo
 
 def _finalists(results: Any, setups: list[_SetUp]) -> list[_SetUp]:
     """When no set-up solved from every start: up to FINALISTS set-ups with no failed run,
-    ranked by their median remaining fraction of the gap (f − f_ref)/(f₀ − f_ref)."""
+    ranked by their median remaining fraction of the gap (f − f_ref)/(f₀ − f_ref); the
+    best of each direction family first, then the next best, leaving out set-ups whose
+    runs ended exactly where a chosen one's did (they behave the same here)."""
     ranked = standings(results)
     if not ranked or ranked[0].solved == ranked[0].runs:
         return []
     progress: dict[tuple[str, str], list[float]] = {}
+    finals: dict[tuple[str, str], list[Any]] = {}
     failed: set[tuple[str, str]] = set()
     for record in results:
         key = (record.controller, record.direction)
@@ -308,10 +312,24 @@ def _finalists(results: Any, setups: list[_SetUp]) -> list[_SetUp]:
         start = record.initial_value - reference
         progress.setdefault(key, []).append(
             (record.value - reference) / start if start > 0 else 0.0)
-    order = sorted((float(np.median(gaps)), index, key) for index, (key, gaps)
-                   in enumerate(progress.items()) if key not in failed)
+        finals.setdefault(key, []).append(record.value)
+    order = [key for _, _, key in sorted(
+        (float(np.median(gaps)), index, key) for index, (key, gaps)
+        in enumerate(progress.items()) if key not in failed)]
+    chosen: list[tuple[str, str]] = []
+    families: set[str] = set()
+    for first_pass in (True, False):
+        for key in order:
+            if len(chosen) == FINALISTS:
+                break
+            if key in chosen or (first_pass and key[1] in families):
+                continue
+            if any(finals[key] == finals[other] for other in chosen):
+                continue
+            chosen.append(key)
+            families.add(key[1])
     by_key = {(s.controller, s.direction): s for s in setups}
-    return [by_key[key] for _, _, key in order[:FINALISTS] if key in by_key]
+    return [by_key[key] for key in chosen if key in by_key]
 
 
 # --- the problem -----------------------------------------------------------------------
@@ -440,8 +458,8 @@ def _setups(loop: str, smoothness: Smoothness, problem: Any) -> list[_SetUp]:
             rate = _rate(FIXED_MULTIPLES[-1] / smoothness.lipschitz)
             add(f"Fallback(Fixed({rate!r}), Armijo())", partial(_fallback, rate))
     if loop in ("any", "quasi_newton"):
-        for code, build in [("Fixed(1.0)", partial(Fixed, 1.0)), *_searches(nonmonotone=False),
-                            ("Fallback(Fixed(1.0), Armijo())", partial(_fallback, 1.0))]:
+        # (Fallback(Fixed(1.0), Armijo()) would repeat Armijo(), whose first trial is 1.0)
+        for code, build in [("Fixed(1.0)", partial(Fixed, 1.0)), *_searches(nonmonotone=False)]:
             setups.append(_SetUp(code, "LBFGS()", build, LBFGS))
     if loop == "any":
         for code, build in [("Wolfe()", Wolfe), ("HagerZhang()", HagerZhang),
