@@ -560,3 +560,52 @@ def test_bad_descend_argument(build, error, pattern):
 def test_unknown_or_positional_options_are_errors(build):
     with pytest.raises(TypeError):
         build()
+
+
+# --- benchmark studies (issue 10: identities and inputs) ---------------------------------
+
+
+def _study(**changes):
+    from linestep.bench import Study, get_problem
+
+    return Study(**{"problems": [get_problem("beale")], "controllers": [Armijo()],
+                    "stop": MaxIterations(5), **changes})
+
+
+class _Opaque:
+    """A stopping rule whose content cannot be read (no parameters, no state, no pickle)."""
+
+    __slots__ = ()
+
+    def __call__(self, progress):
+        return None
+
+    def __deepcopy__(self, memo):
+        return _Opaque()
+
+    def __reduce__(self):
+        raise TypeError("cannot pickle")
+
+
+def _start(factor):
+    from linestep.bench import Start
+
+    return Start.scaled(factor)
+
+
+STUDY = [
+    case(lambda: _study(starts=[_start(10), _start(10.0)]), ValueError, "starts",
+         "start-listed-twice"),
+    says(lambda: _study(controllers={"a": Armijo(), "b": Armijo()}).tasks(), ValueError,
+         "List each configuration once", "same-configuration-twice"),
+    says(lambda: _study(stop=_Opaque()).tasks(), TypeError, "linestep_identity",
+         "unidentifiable-stop"),
+    says(lambda: _study(controllers=[Schedule(lambda k: 0.1), Schedule(lambda k: 0.1)]).tasks(),
+         ValueError, "same computation", "equal-lambda-schedules"),
+]
+
+
+@pytest.mark.parametrize(("build", "error", "pattern"), STUDY)
+def test_bad_study_argument(build, error, pattern):
+    with pytest.raises(error, match=pattern):
+        build()

@@ -46,7 +46,8 @@ def tight_stop():
 def test_one_step_to_the_minimum_of_a_round_bowl_counts():
     # Start: f and ∇f (1 + 1). Armijo with f and ∇f supplied: t = 1 (f = 25, rejected)
     # and t = 0.5 (f = 0) are two values; then ∇f at the new point. ∇f = 0: converged.
-    run = descend((square, square_gradient), np.array([3.0, -4.0]))
+    # (the unit first trial, given explicitly: descend's default scales it along −∇f)
+    run = descend((square, square_gradient), np.array([3.0, -4.0]), controller=Armijo())
     assert run.converged and run.iterations == 1
     assert run.evaluations == Evaluations(values=3, gradients=2)
     np.testing.assert_array_equal(run.x, [0.0, 0.0])
@@ -59,7 +60,7 @@ def test_one_step_to_the_minimum_of_a_round_bowl_counts():
 
 def test_fused_objective_reuses_the_gradient_of_the_step():
     objective = Objective(lambda x: (square(x), square_gradient(x)), fused=True)
-    run = descend(objective, np.array([3.0, -4.0]))
+    run = descend(objective, np.array([3.0, -4.0]), controller=Armijo())
     # Start, t = 1 and t = 0.5: three fused calls, no separate gradient call.
     assert run.evaluations == Evaluations(values=3, gradients=3)
 

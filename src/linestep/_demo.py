@@ -60,29 +60,29 @@ def make_calibration(seed: int = 7, count: int = 200) -> Calibration:
 
 
 def _controllers(problem: Calibration) -> list[tuple[str, Callable[[], object]]]:
-    entries: list[tuple[str, Callable[[], object]]] = [
-        (f"Fixed({TOO_LARGE_RATE})", lambda: Fixed(TOO_LARGE_RATE)),
-        (f"Fallback(Fixed({TOO_LARGE_RATE}), Armijo())",
-         lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo())),
-        ("Armijo()", lambda: Armijo()),
-    ]
-    try:
-        from linestep.rules.schedule import Schedule
-    except ImportError:  # pragma: no cover - the schedule module ships with the package
-        return entries
+    """(label, factory) pairs; labels in the benchmark's short form (`short_label`)."""
+    from linestep.bench._label import short_label
+    from linestep.rules.schedule import Schedule
+
     safe = 1.0 / problem.lipschitz
-    entries.append((f"Schedule.inverse_time({safe:.3g}, rate=0.01)",
-                    lambda: Schedule.inverse_time(safe, rate=0.01)))
-    return entries
+    builds: list[Callable[[], object]] = [
+        lambda: Fixed(TOO_LARGE_RATE),
+        lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo()),
+        lambda: Armijo(),
+        lambda: Schedule.inverse_time(safe, rate=0.01),
+    ]
+    return [(short_label(build()), build) for build in builds]
 
 
 def run_demo(print_line: Callable[[str], object] = print) -> list[tuple[str, Run]]:
     """Run the comparison and print the table; returns the runs for tests."""
     problem = make_calibration()
     print_line("linestep demo: fitting an INVENTED probe calibration (seeded synthetic data)")
-    print_line(f"  3 parameters, {len(problem.targets)} readings; the fit's gradient is "
-               f"L-Lipschitz with L = {problem.lipschitz:.3g},")
-    print_line(f"  so a fixed rate converges only below 2/L = {2 / problem.lipschitz:.3g}.")
+    # both numbers printed to 4 decimals from the same L, so 2/L is visibly 2 divided by L
+    print_line(f"  3 parameters, {len(problem.targets)} readings. The fit's Hessian has largest "
+               f"eigenvalue L = {problem.lipschitz:.4f}")
+    print_line(f"  (computed exactly), so a fixed rate converges only below 2/L = "
+               f"{2 / problem.lipschitz:.4f}; {TOO_LARGE_RATE:g} is above it.")
     print_line("")
     results = []
     for label, build in _controllers(problem):

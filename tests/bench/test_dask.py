@@ -48,7 +48,7 @@ def test_dask_matches_the_process_pool(cluster, tmp_path: Path) -> None:
 def test_a_client_sets_the_runs_in_flight_by_its_threads(cluster, monkeypatch) -> None:
     # One worker with two threads: IN_FLIGHT_PER_WORKER runs per thread, whether the
     # cluster is given by address or as a client (not this machine's CPU count).
-    from linestep.bench import harness
+    from linestep.bench import _execute as harness
 
     monkeypatch.setattr(harness.os, "cpu_count", lambda: 64)  # unlike the cluster
     limits = []

@@ -9,17 +9,24 @@ from pathlib import Path
 import pytest
 
 from linestep.bench import storage
-from linestep.bench.storage import COLUMNS, SCHEMA_VERSION, ResultsFileError, ResultStore, run_key
+from linestep.bench.storage import COLUMNS, SCHEMA_VERSION, ResultsFileError, ResultStore
+
+# A stored history: equal-length arrays named as History's fields (inf survives JSON).
+_HISTORY = {"value": [1.0, math.inf, 0.5], "gradient_norm": [2.0, 1.0, 0.1],
+            "size": [0.0, 1.0, 0.5], "values": [1, 2, 3], "gradients": [1, 2, 3],
+            "restarted": [False, False, False], "status": ["start", "accepted", "accepted"]}
 
 
 def _row(key: str = "k1", **changes: object) -> dict:
     row = {name: None for name in COLUMNS}
-    row.update(key=key, problem="bowl", dimension=2, controller="Armijo()",
-               controller_repr="Armijo(c1=0.0001)", direction="SteepestDescent()",
-               start="standard", seed=None, stop="MaxIterations(5)", kind="converged",
-               reason="done", value=0.5, iterations=3, value_evaluations=4,
-               gradient_evaluations=4, seconds=0.01, objective_seconds=0.001, solved=True,
-               x=[1.0, 2.0], history={"value": [1.0, math.inf, 0.5], "status": ["start"]})
+    row.update(key=key, slot=f"slot-{key}", problem_fingerprint="fp", controller_id="c",
+               direction_id="d", stop_id="s", problem="bowl", dimension=2,
+               controller="Armijo()", controller_repr="Armijo(c1=0.0001)",
+               direction="SteepestDescent()", start="standard", seed=None,
+               stop="MaxIterations(5)", kind="converged", reason="done", value=0.5,
+               optimal_values=[0.0], solve_rtol=1e-4, iterations=3, value_evaluations=4,
+               gradient_evaluations=4, seconds=0.01, objective_seconds=0.001,
+               x=[1.0, 2.0], history=_HISTORY)
     row.update(changes)
     return row
 
@@ -28,7 +35,7 @@ def test_round_trip_keeps_every_field(tmp_path: Path) -> None:
     with ResultStore(tmp_path / "results.sqlite") as store:
         assert store.write(_row())
         [row] = list(store.rows())
-    assert row == _row()  # JSON columns decoded; inf survives; solved back to bool
+    assert row == _row()  # JSON columns decoded; inf survives
     assert row["history"]["value"][1] == math.inf
 
 
@@ -103,7 +110,7 @@ def test_another_schema_version_is_refused_with_both_versions_named(tmp_path: Pa
         store.write(_row())
     with sqlite3.connect(path) as connection:
         connection.execute("UPDATE metadata SET value = '99' WHERE name = 'schema_version'")
-    _refused_and_unchanged(path, r"schema version 99.*version 1")
+    _refused_and_unchanged(path, rf"schema version 99.*version {SCHEMA_VERSION}")
     _refused_and_unchanged(path, "schema version 99", read_only=True)
 
 
@@ -118,14 +125,3 @@ def test_read_only_opening(tmp_path: Path) -> None:
         assert len(store) == 1
         with pytest.raises(ResultsFileError, match="read-only"):
             store.write(_row("other"))
-
-
-def test_run_key_depends_on_every_part() -> None:
-    parts = dict(problem="p", dimension=2, controller_repr="C()", direction="D()",
-                 start="standard", seed=None, stop="S()")
-    keys = {run_key(**parts)}
-    for name, other in [("problem", "q"), ("dimension", 3), ("controller_repr", "C(a=1)"),
-                        ("direction", "E()"), ("start", "x10"), ("seed", 0), ("stop", "T()")]:
-        keys.add(run_key(**{**parts, name: other}))
-    assert len(keys) == 8
-    assert run_key(**parts) == run_key(**parts)  # stable across calls (and processes)

@@ -230,7 +230,6 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
 
     smoothness = _probe(problem, probe_seed)
     setups = _setups(loop, smoothness, problem)
-    starts_list = [Start.standard()] + ([Start.perturbed(START_NOISE)] if seeds else [])
     count = 1 + len(seeds)
     runs = len(setups) * count
     budget = DEFAULT_BUDGET if budget is None else _validate.integer("budget", budget)

@@ -13,19 +13,15 @@ Profiles           `performance_profile`, `data_profile`, `robustness_score`
 Reports            `write_report`, `ranking`, `format_ranking`
 =================  ==============================================================
 
-The modules behind the names: `linestep.bench.harness`, `.storage`, `.suites`,
-`.user`, `.profiles` and `.report`; `docs/bench/` walks through a study.
+The modules behind the names: `linestep.bench.harness` (re-exporting the study
+definition `_study`, the run record `_record`, execution `_execute` and `_results`),
+`.storage`, `.suites`, `.user`, `.profiles` and `.report`; `docs/bench/` walks through a study.
 """
 
-from linestep.bench.harness import (
-    PerProblem,
-    Results,
-    RunRecord,
-    Start,
-    Study,
-    polyak_at_optimum,
-    run_study,
-)
+from linestep.bench._execute import run_study
+from linestep.bench._record import RunRecord
+from linestep.bench._results import Results
+from linestep.bench._study import PerProblem, Start, Study, polyak_at_optimum
 from linestep.bench.problems import Problem, get_problem, mgh_problems, problem_names
 from linestep.bench.profiles import data_profile, performance_profile, robustness_score
 from linestep.bench.report import format_ranking, ranking, write_report

@@ -7,7 +7,7 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
-from linestep import _validate, stopping
+from linestep import _validate
 from linestep.jax import _tree
 from linestep.jax._armijo import armijo
 from linestep.jax._checks import check_function, check_parameters
@@ -16,6 +16,7 @@ from linestep.jax._line import value_and_gradient
 from linestep.jax._records import CompiledRun, Reason
 from linestep.jax._search import ACCEPTED, CompiledSearch
 from linestep.stopping import DEFAULT_GRADIENT_ATOL, DEFAULT_GRADIENT_RTOL, DEFAULT_MAX_ITERATIONS
+from linestep.stopping._base import _relative
 
 _RUNNING = -1
 
@@ -90,7 +91,7 @@ def descend(fun: Any, x0: Any, *, search: Any = None, direction: Any = None,
         )
     max_iterations = _validate.integer("max_iterations", max_iterations, minimum=0)
     atol = _validate.nonnegative("gradient_atol", gradient_atol)
-    rtol = stopping._relative("gradient_rtol", gradient_rtol)  # as GradientNorm's rtol
+    rtol = _relative("gradient_rtol", gradient_rtol)  # as GradientNorm's rtol
     check_parameters(x0)
     try:
         hash((fun, search, direction))

@@ -1,0 +1,110 @@
+"""Fixed rates chosen per problem from a stated rule, for studies that compare every family.
+
+A fixed rate has no sensible default across problems: 0.01 diverges on one and
+crawls on the next. The default study therefore sets it per problem with the
+rule of the textbook analysis of gradient descent on an L-smooth function:
+
+    rate = 1 / L̂,
+
+where L̂ estimates the largest curvature |λ_max(∇²f)| at the problem's standard
+start by `POWER_ITERATIONS` steps of the power iteration on finite-difference
+Hessian–vector products, ∇²f(x)·v ≈ (∇f(x + h·v) − ∇f(x)) / h. The estimate
+costs ``POWER_ITERATIONS + 1`` gradient evaluations per problem; they are spent
+while the study is built, not counted in any run. Runs from other starts reuse
+the standard start's rate (the rule is stated per problem, not per start).
+
+On a non-quadratic problem the curvature along the way can exceed L̂, so
+``Fixed(1/L)`` may still diverge there: the study shows it, and
+``Fallback(Fixed(1/L), Armijo())`` shows the safety net recovering.
+
+When `linestep.advice` lands, its ``estimate_smoothness`` (Lanczos on the same
+products) can replace `lipschitz_at_start` here: the builders only need L̂.
+
+Examples
+--------
+>>> from linestep.bench import get_problem
+>>> from linestep.bench.rates import fixed_at_smoothness, lipschitz_at_start
+>>> # ∇²f(−1.2, 1) = [[1330, 480], [480, 200]]: λ_max = 1506.37 (numpy's eigvalsh)
+>>> round(lipschitz_at_start(get_problem("rosenbrock")), 1)
+1506.4
+>>> fixed_at_smoothness().build(get_problem("rosenbrock"))  # doctest: +ELLIPSIS
+Fixed(size=0.000663...)
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import zlib
+from typing import Any
+
+import numpy as np
+
+from linestep.bench.harness import PerProblem
+from linestep.bench.problems import Problem
+
+__all__ = ["fallback_at_smoothness", "fixed_at_smoothness", "lipschitz_at_start"]
+
+# Power iterations of the curvature estimate: each costs one gradient evaluation.
+POWER_ITERATIONS = 30
+# Finite-difference step, relative to max(1, ‖x‖∞): about √ε balances truncation
+# and rounding errors of the forward difference.
+DIFFERENCE_STEP = math.sqrt(np.finfo(float).eps)
+
+# Estimates already made in this process, by (name, dimension, start).
+_CACHE: dict[tuple, float | None] = {}
+
+
+def lipschitz_at_start(problem: Problem) -> float | None:
+    """L̂ = |λ_max(∇²f(x_s))| at the standard start x_s, by the power iteration.
+
+    None when a gradient along the way is not finite or the curvature is zero
+    (no fixed rate follows from the rule then).
+    """
+    x = np.array(problem.start, dtype=float).reshape(-1)
+    key = (problem.name, problem.dimension, x.tobytes())
+    if key not in _CACHE:
+        _CACHE[key] = _power_iteration(problem, x)
+    return _CACHE[key]
+
+
+def _power_iteration(problem: Problem, x: np.ndarray) -> float | None:
+    def gradient(point: np.ndarray) -> np.ndarray:
+        return np.asarray(problem.gradient(point), dtype=float).reshape(-1)
+
+    rng = np.random.default_rng(zlib.crc32(problem.name.encode("utf-8")))
+    vector = rng.standard_normal(x.size)
+    vector /= np.linalg.norm(vector)
+    step = DIFFERENCE_STEP * max(1.0, float(np.max(np.abs(x))))
+    with np.errstate(all="ignore"):
+        base = gradient(x)
+        estimate = None
+        for _ in range(POWER_ITERATIONS):
+            product = (gradient(x + step * vector) - base) / step
+            norm = float(np.linalg.norm(product))
+            if not math.isfinite(norm) or norm == 0.0:
+                return None
+            estimate, vector = norm, product / norm
+    return estimate
+
+
+def _fixed(problem: Problem, *, fallback: bool) -> Any:
+    from linestep.rules.fallback import Fallback
+    from linestep.rules.fixed import Fixed
+    from linestep.searches.armijo import Armijo
+
+    lipschitz = lipschitz_at_start(problem)
+    if lipschitz is None:
+        return None
+    rule = Fixed(1.0 / lipschitz)
+    return Fallback(rule, Armijo()) if fallback else rule
+
+
+def fixed_at_smoothness() -> PerProblem:
+    """``Fixed(1/L̂)`` with L̂ estimated per problem (see the module docstring)."""
+    return PerProblem("Fixed(1/L)", functools.partial(_fixed, fallback=False))
+
+
+def fallback_at_smoothness() -> PerProblem:
+    """``Fallback(Fixed(1/L̂), Armijo())``: the same rate with backtracking as a safety net."""
+    return PerProblem("Fallback(Fixed(1/L), Armijo())", functools.partial(_fixed, fallback=True))
