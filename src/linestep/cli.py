@@ -404,7 +404,7 @@ def _quiet_workers() -> Iterator[None]:
 _COMMAND_LINE_WORDS = (
     (re.compile(r"(iterations, the budget of \d+; )raise `n`"), r"\1raise --max-iterations"),
     (re.compile(r"(evaluations.*?the budget of \d+; )raise `n`"), r"\1raise --max-evaluations"),
-    (re.compile(r"loosen the convergence tolerances"), "loosen --gradient-tol"),
+    (re.compile(r"loosen the convergence tolerances"), "loosen --gradient-atol"),
 )
 
 

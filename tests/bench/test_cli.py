@@ -191,7 +191,7 @@ def test_messages_name_the_command_line_options(tmp_path: Path, capsys) -> None:
                "convergence tolerances.")
     assert cli.command_line_wording(library) == (
         "Stopped after 5 iterations, the budget of 5; raise --max-iterations or loosen "
-        "--gradient-tol.")
+        "--gradient-atol.")
     evaluations = ("Used 12 evaluations (6 values + 6 gradients), reaching the budget of 10; "
                    "raise `n` to allow more.")
     assert "raise --max-evaluations to allow more" in cli.command_line_wording(evaluations)
@@ -203,8 +203,8 @@ def test_messages_name_the_command_line_options(tmp_path: Path, capsys) -> None:
     assert "raise --max-iterations (now 3)" in captured.out
     lines = captured.out.splitlines()
     table_end = lines.index("")
-    assert [line.split(":")[0] for line in lines[table_end + 1:table_end + 5]] == [
-        "solved", "failed", "evaluations", "score"]
+    assert [line.split(":")[0] for line in lines[table_end + 1:table_end + 6]] == [
+        "solved", "not solved", "failed", "evaluations", "score"]
     assert "Writing the report" in captured.err
     page = (out / "report.html").read_text(encoding="utf-8")
     assert "raise --max-iterations" in page and "raise `n`" not in page

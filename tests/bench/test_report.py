@@ -41,8 +41,8 @@ def _record(problem: str, controller: str, evaluations: int, solved: bool,
                      controller=controller, controller_repr=controller,
                      direction="SteepestDescent()", start="standard", seed=seed, stop="stop",
                      kind=kind, reason="invented", value=0.0 if solved else 1.0,
-                     initial_value=2.0, optimum=0.0, gap=0.0 if solved else 1.0,
-                     solved=solved, iterations=1, value_evaluations=evaluations,
+                     initial_value=2.0, optimal_values=(0.0,), iterations=1,
+                     value_evaluations=evaluations,
                      gradient_evaluations=0, seconds=0.0, objective_seconds=0.0, error=None,
                      x=None, history=None)
 
@@ -95,8 +95,8 @@ def test_a_single_instance_study_is_told_profiles_are_single_steps() -> None:
 
 def test_the_legend_defines_each_word_on_one_line() -> None:
     lines = report.format_legend().splitlines()
-    assert [line.split(":")[0] for line in lines] == ["solved", "failed", "evaluations",
-                                                      "score"]
+    assert [line.split(":")[0] for line in lines] == ["solved", "not solved", "failed",
+                                                      "evaluations", "score"]
     assert f"2^{DEFAULT_LOG2_TAU_MAX:g}" in lines[-1]
 
 

@@ -353,8 +353,12 @@ class Study:
             if controller is None:
                 return None
             controller_label = controller_label or controller_spec.label
+            # Built per problem: one solver (one controller_id, which results group by)
+            # whatever each build's parameters are; the slot still holds the build's.
+            family = _identity.digest(controller_spec.build, what="controller")
         else:
             controller = _fresh(controller_spec)
+            family = None
         direction = _fresh(direction_spec, "direction")
         if self.exclude is not None and self.exclude(controller, direction):
             return None
@@ -368,6 +372,8 @@ class Study:
         # but another problem fingerprint is a stale result (the problem changed).
         slot = _identity.digest_description([problem.name, problem.dimension, start.label, seed,
                                 *identities.values()])
+        if family is not None:
+            identities["controller_id"] = family
         header = {
             "problem": problem.name, "dimension": problem.dimension,
             "controller": controller_label or short_label(controller),

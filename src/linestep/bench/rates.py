@@ -40,7 +40,7 @@ from typing import Any
 
 import numpy as np
 
-from linestep.bench.harness import PerProblem
+from linestep.bench._study import PerProblem
 from linestep.bench.problems import Problem
 
 __all__ = ["fallback_at_smoothness", "fixed_at_smoothness", "lipschitz_at_start"]
