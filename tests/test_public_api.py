@@ -13,12 +13,13 @@ DESIGN_NAMES = {
     "Fixed", "Schedule", "Armijo", "Goldstein", "Wolfe", "MoreThuente", "HagerZhang",
     "NonmonotoneArmijo", "BarzilaiBorwein", "Polyak", "Fallback",
     "descend", "Run", "SteepestDescent", "LBFGS", "NonlinearCG", "stopping",
+    "advise", "diagnose", "estimate_smoothness",
 }
 
 
 def test_all_matches_the_public_names():
     public = {name for name in dir(linestep) if not name.startswith("_")}
-    modules = {"stopping", "searches", "rules", "directions", "bench", "cli", "jax"}
+    modules = {"stopping", "searches", "rules", "directions", "bench", "cli", "jax", "advice"}
     assert set(linestep.__all__) == public - (modules - {"stopping"}) - {"annotations"}
 
 

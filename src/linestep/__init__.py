@@ -13,6 +13,8 @@ Driver             `descend`, `Run`, `History`
 Directions         `SteepestDescent`, `LBFGS`, `NonlinearCG`
 Initial trials     `UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
                    `ScaledTrial`, `HagerZhangStart`
+Advice             `estimate_smoothness`, `Smoothness`, `diagnose`,
+                   `Diagnosis`, `advise`, `Advice`
 =================  ==========================================================
 """
 
@@ -21,6 +23,14 @@ from linestep._descend import History, Run, descend
 from linestep._initial import PreviousTrial, QuadraticTrial, ScaledTrial, UnitTrial
 from linestep._objective import Objective
 from linestep._step import Controller, Evaluations, Status, Step, Trial
+from linestep.advice import (
+    Advice,
+    Diagnosis,
+    Smoothness,
+    advise,
+    diagnose,
+    estimate_smoothness,
+)
 from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.rules.fallback import Fallback
@@ -35,9 +45,11 @@ from linestep.searches.nonmonotone import NonmonotoneArmijo
 from linestep.searches.wolfe import Wolfe
 
 __all__ = [
+    "Advice",
     "Armijo",
     "BarzilaiBorwein",
     "Controller",
+    "Diagnosis",
     "Evaluations",
     "Fallback",
     "Fixed",
@@ -56,13 +68,17 @@ __all__ = [
     "Run",
     "Schedule",
     "ScaledTrial",
+    "Smoothness",
     "Status",
     "SteepestDescent",
     "Step",
     "Trial",
     "UnitTrial",
     "Wolfe",
+    "advise",
     "descend",
+    "diagnose",
+    "estimate_smoothness",
     "stopping",
 ]
 

@@ -100,4 +100,9 @@ def run_demo(print_line: Callable[[str], object] = print) -> list[tuple[str, Run
     print_line("")
     for label, run in results:
         print_line(f"  {label}: {run.verdict.reason}")
+    from linestep.advice import diagnose
+
+    diagnosis = diagnose(results[0][1])  # the diverging fixed rate's history
+    print_line("")
+    print_line(f"  diagnose(run) of {results[0][0]}: {diagnosis.kind}. {diagnosis.reason}")
     return results

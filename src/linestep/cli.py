@@ -42,6 +42,7 @@ EXAMPLES = """examples:
   linestep bench quadratics --starts standard,perturbed:0.1 --seeds 5 --workers 2
   linestep bench mgh --scheduler tcp://10.0.0.5:8786      (a Dask cluster)
   linestep report linestep-results --html --csv --json
+  linestep advise my_model:make_problem --loop steepest   recommend a controller
 """
 
 BENCH_DESCRIPTION = """\
@@ -149,6 +150,9 @@ def build_parser() -> argparse.ArgumentParser:
     commands.add_parser("demo", help="show a diverging fixed rate, its fix, and a comparison")
     _add_bench(commands)
     _add_report(commands)
+    from linestep.advice._command import add_parser as add_advise
+
+    add_advise(commands)
     return parser
 
 
@@ -607,6 +611,10 @@ def main(argv: Sequence[str] | None = None) -> int:
             return 0
         if args.command in ("bench", "report"):
             return _run_guarded(args)
+        if args.command == "advise":
+            from linestep.advice._command import run as run_advise
+
+            return run_advise(args)
     except BrokenPipeError:  # output piped into `head` and closed early
         sys.stderr.close()
         return 0

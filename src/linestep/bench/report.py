@@ -645,13 +645,19 @@ def _legend_html() -> str:
 def write_html(results: Results, path: str | Path, *, title: str = "linestep benchmark report",
                source: str | None = None,
                convergence_limit: int = MAX_CONVERGENCE_PLOTS,
-               reason_wording: Callable[[str], str] | None = None) -> Path:
+               reason_wording: Callable[[str], str] | None = None,
+               preface: str | None = None) -> Path:
     """One self-contained HTML file: tables and base64-embedded PNG plots, no external files.
 
     Every table and legend lists solvers in ranking order. `reason_wording`, if
     given, rewrites each run's reason for the reader (the command line passes one
-    that names its options instead of the library's arguments).
+    that names its options instead of the library's arguments). The report opens
+    with `preface` (an HTML fragment, e.g. the Recommendation section of
+    ``linestep advise``), if given, then one recommendation sentence per direction
+    family (the rule of `linestep.advice`: robustness first, then cost).
     """
+    from linestep.advice import recommendation_sentences
+
     rows = ranking(results)
     order = [row["solver"] for row in rows]
     rank = {solver: i for i, solver in enumerate(order)}
@@ -663,6 +669,8 @@ def write_html(results: Results, path: str | Path, *, title: str = "linestep ben
         f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
         f"<title>{html.escape(title)}</title><style>{_STYLE}</style></head><body>",
         f"<h1>{html.escape(title)}</h1>",
+        preface or "",
+        "".join(f"<p><b>{html.escape(text)}</b></p>" for text in recommendation_sentences(results)),
         f"<p class='note'>{len(results)} runs on {len(instances)} problem instances, "
         f"{len(rows)} solvers. Written {created}"
         + (f" from <code>{html.escape(source)}</code>" if source else "") + ".</p>",
