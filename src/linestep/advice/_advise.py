@@ -15,8 +15,8 @@ import numpy as np
 
 from linestep import _validate, stopping
 from linestep._objective import Objective
-from linestep.advice._rule import Standing, standings
 from linestep.advice._smoothness import Smoothness, estimate_smoothness
+from linestep.bench._rule import Standing, standings
 from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.rules.fallback import Fallback
@@ -86,7 +86,7 @@ class Advice:
     study : linestep.bench.Results
         Every run of the study.
     standings : tuple of Standing
-        Every set-up, best first by the rule (`linestep.advice._rule`).
+        Every set-up, best first by the rule (`linestep.bench._rule`).
     evaluations : int
         Evaluations of the smoothness probe plus every run of both rounds (runs
         found already finished in `out` count what they spent then).
@@ -145,7 +145,7 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     seeded perturbed starts (x0 + 0.1·max(1, ‖x0‖∞)·z) through `linestep.bench`
     (its storage, executors and resume), then applies the rule *robustness first,
     then cost*: the set-up solving from the most starts, then with the fewest
-    median evaluations (`linestep.advice._rule`).
+    median evaluations (`linestep.bench._rule`).
 
     The study runs in up to two rounds. The first gives every run an equal share
     of half the budget. When no set-up solved from every start, the rest of the

@@ -38,25 +38,16 @@ from __future__ import annotations
 import base64
 import csv
 import datetime
-import hashlib
 import html
-import io
 import json
 import math
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
-from linestep import _validate
-from linestep.bench._results import OUTCOMES, Results
+from linestep.bench._results import Results
 from linestep.bench.profiles import (
     DEFAULT_LOG2_TAU_MAX,
-    data_profile,
-    performance_profile,
-    performance_ratios,
-    robustness_score,
 )
 
 __all__ = [
@@ -79,207 +70,34 @@ __all__ = [
     "write_report",
 ]
 
-# Moré–Wild tolerances τ of the data profiles in reports (a loose and a tight one).
-DATA_PROFILE_TOLERANCES = (1e-3, 1e-7)
-# At most this many convergence plots go into an HTML report (one per problem instance).
-MAX_CONVERGENCE_PLOTS = 40
-# Terminal table: longer solver labels are cut with an ellipsis.
-LABEL_WIDTH = 64
-# Figure resolution (dots per inch) for PNG output: small files, readable text.
-PNG_DPI = 90
-# Inches on the right of each figure for the legend (labels up to 52 characters).
-LEGEND_WIDTH = 3.8
-# Longest figure file name stem (file systems allow 255 bytes).
-SLUG_LIMIT = 120
-# Floor of the plotted gap f − f_ref, relative to max(1, |f_ref|), so log axes work.
-GAP_FLOOR = 1e-16
+from linestep.bench._figures import (
+    MAX_CONVERGENCE_PLOTS,
+    _encode,
+    _slug,
+    convergence_figure,
+    data_figure,
+    performance_figure,
+    solver_styles,
+    write_figures,
+)
+from linestep.bench._ranking import (
+    LEGEND,
+    _number,
+    format_legend,
+    format_ranking,
+    headline,
+    ranking,
+    recommend,
+    single_instance_note,
+    solver_order,
+    winners,
+)
+from linestep.bench._rule import recommendation_sentences
 
 CSV_COLUMNS = ("solver", "problem", "dimension", "start", "seed", "controller", "direction",
                "kind", "reason", "value", "initial_value", "optimum", "gap", "solved",
                "iterations", "value_evaluations", "gradient_evaluations", "evaluations",
                "seconds", "objective_seconds", "error", "controller_repr", "stop", "key")
-
-
-# --- ranking ------------------------------------------------------------------------------
-
-
-def ranking(results: Results, *, measure: str = "evaluations",
-            log2_tau_max: float = DEFAULT_LOG2_TAU_MAX) -> list[dict[str, Any]]:
-    """One row per solver, best first (see the module docstring for the columns).
-
-    Returns dicts with keys ``rank``, ``solver``, ``runs``, ``solved``, ``failed``,
-    ``median`` (the median cost over solved runs, None if none solved), ``score`` and
-    ``wins`` (instances on which the solver is the `winners` entry).
-    """
-    _, solvers, costs = results.cost_matrix(measure)
-    scores = robustness_score(costs, log2_tau_max=log2_tau_max)
-    by_solver: dict[str, list] = {solver: [] for solver in solvers}
-    for record in results:
-        by_solver[results.solver(record)].append(record)
-    rows = []
-    for j, (solver, records) in enumerate(by_solver.items()):
-        solved = costs[:, j][np.isfinite(costs[:, j])]
-        rows.append({
-            "solver": solver,
-            "runs": len(records),
-            "solved": sum(results.is_solved(r) for r in records),
-            "failed": sum(results.outcome(r) == "failed" for r in records),
-            "median": float(np.median(solved)) if solved.size else None,
-            "score": float(scores[j]),
-            "column": j,
-        })
-    rows.sort(key=lambda row: (-row["score"], -row["solved"],
-                               math.inf if row["median"] is None else row["median"]))
-    ranked = costs[:, [row["column"] for row in rows]] if rows else costs
-    wins = [0] * len(rows)
-    for column in _winner_columns(ranked):
-        if column is not None:
-            wins[column] += 1
-    for rank, row in enumerate(rows, start=1):
-        row["rank"] = rank
-        row["wins"] = wins[rank - 1]
-        del row["column"]
-    return rows
-
-
-def solver_order(results: Results, *, measure: str = "evaluations") -> list[str]:
-    """Solver labels in ranking order: the one order of every legend and table."""
-    return [row["solver"] for row in ranking(results, measure=measure)]
-
-
-def _winner_columns(costs: np.ndarray) -> list[int | None]:
-    """Per instance (row), the column with the fewest solved cost; None if none solved.
-
-    Ties go to the first column, so pass columns in ranking order.
-    """
-    return [int(np.argmin(row)) if np.isfinite(row).any() else None for row in costs]
-
-
-def winners(results: Results, *, measure: str = "evaluations") -> list[dict[str, Any]]:
-    """The winner of each problem instance: fewest `measure` among the solvers that solved it.
-
-    Returns one dict per instance, in the results' order, with keys ``instance``,
-    ``winner`` (None when no solver solved it), ``cost`` (the winner's cost),
-    ``solved_by`` (solvers that solved it) and ``solvers`` (solvers that ran on it).
-    Ties go to the better-ranked solver.
-    """
-    instances, solvers, costs = results.cost_matrix(measure)
-    order = solver_order(results, measure=measure)
-    columns = [solvers.index(solver) for solver in order]
-    ranked = costs[:, columns] if costs.size else costs
-    ran: dict[tuple, set[str]] = {}
-    for record in results:
-        ran.setdefault(record.instance, set()).add(results.solver(record))
-    table = []
-    for i, (instance, column) in enumerate(zip(instances, _winner_columns(ranked),
-                                               strict=True)):
-        table.append({
-            "instance": instance,
-            "winner": None if column is None else order[column],
-            "cost": None if column is None else float(ranked[i, column]),
-            "solved_by": int(np.isfinite(ranked[i]).sum()),
-            "solvers": len(ran.get(instance, ())),
-        })
-    return table
-
-
-def recommend(rows: Sequence[dict[str, Any]]) -> dict[str, Any] | None:
-    """The ranking row to recommend: robustness first, then cost.
-
-    The highest fraction of runs solved; among those, the fewest median evaluations
-    (solved runs), then the better rank. None when no solver solved anything.
-    This is the rule the advice module states; a later change can point here at it.
-    """
-    candidates = [row for row in rows if row["solved"] > 0]
-    if not candidates:
-        return None
-    return min(candidates, key=lambda row: (-row["solved"] / row["runs"],
-                                            math.inf if row["median"] is None
-                                            else row["median"], row["rank"]))
-
-
-def headline(rows: Sequence[dict[str, Any]],
-             winners_table: Sequence[dict[str, Any]] | None = None) -> str:
-    """One or two sentences saying which set-up is best for what in these results."""
-    best = recommend(rows)
-    if best is None:
-        return "No solver solved any problem instance in these results."
-    text = (f"Best set-up here (robustness first, then cost): {best['solver']}, which "
-            f"solved {best['solved']} of {best['runs']} runs with a median of "
-            f"{_number(best['median'])} evaluations.")
-    decided = [w for w in winners_table or () if w["winner"] is not None]
-    if decided:
-        counts: dict[str, int] = {}
-        for entry in decided:
-            counts[entry["winner"]] = counts.get(entry["winner"], 0) + 1
-        cheapest, count = max(counts.items(), key=lambda item: item[1])
-        if cheapest != best["solver"]:
-            text += (f" Cheapest on the most instances: {cheapest} (fewest evaluations on "
-                     f"{count} of {len(winners_table)}).")
-        else:
-            text += (f" It is also the cheapest on the most instances ({count} of "
-                     f"{len(winners_table)}).")
-    return text
-
-
-def single_instance_note(results: Results) -> str | None:
-    """A warning when every run shares one problem instance (profiles are single steps)."""
-    if len(results.instances()) != 1:
-        return None
-    return ("All runs share one problem instance, so each profile is a single step: a solver "
-            "either solved it or did not. For profiles that tell solvers apart, run several "
-            "starts: `--starts perturbed:0.1 --seeds 10` on the command line, or "
-            "`starts=[Start.perturbed(0.1)], seeds=range(10)` in a Study.")
-
-
-def _cut(text: str, width: int = LABEL_WIDTH) -> str:
-    """`text` within `width` characters; a cut label ends with a tag of the whole one, so
-    two labels that share their first characters never look alike."""
-    if len(text) <= width:
-        return text
-    tag = hashlib.sha256(text.encode("utf-8")).hexdigest()[:6]
-    return f"{text[: width - 9]}…[{tag}]"
-
-
-def _number(value: float | None) -> str:
-    if value is None:
-        return "-"
-    return f"{value:.0f}" if value == int(value) else f"{value:.1f}"
-
-
-def format_ranking(rows: Sequence[dict[str, Any]], *, measure: str = "evaluations") -> str:
-    """The ranking as a fixed-width text table."""
-    header = ("#", "controller", "runs", "solved", "failed", f"median {_cost_name(measure)} "
-              "(solved)", "score")
-    body = [(str(row["rank"]), _cut(row["solver"]), str(row["runs"]), str(row["solved"]),
-             str(row["failed"]), _number(row["median"]), f"{row['score']:.3f}")
-            for row in rows]
-    widths = [max(len(line[i]) for line in [header, *body]) for i in range(len(header))]
-    lines = []
-    for line in [header, *body]:
-        cells = [cell.ljust(width) if i == 1 else cell.rjust(width)
-                 for i, (cell, width) in enumerate(zip(line, widths, strict=True))]
-        lines.append("  ".join(cells).rstrip())
-    return "\n".join(lines)
-
-
-# What the ranking's columns mean, one line each (the terminal legend and the HTML note).
-LEGEND = (
-    *OUTCOMES,
-    ("evaluations", "values + gradients evaluated; the median counts solved runs only"),
-    ("score", f"area under the performance profile up to τ = 2^{DEFAULT_LOG2_TAU_MAX:g}, "
-              f"over {DEFAULT_LOG2_TAU_MAX:g}: 1 = cheapest everywhere, 0 = nothing solved"),
-)
-
-
-def format_legend() -> str:
-    """The terminal legend printed under the ranking table: one line per word."""
-    width = max(len(word) for word, _ in LEGEND)
-    return "\n".join(f"{word + ':':<{width + 1}} {text}." for word, text in LEGEND)
-
-
-def _cost_name(measure: str) -> str:
-    return {"evaluations": "evals"}.get(measure, measure)
 
 
 # --- export -------------------------------------------------------------------------------
@@ -323,255 +141,6 @@ def write_json(results: Results, path: str | Path) -> Path:
     path = Path(path)
     path.write_text(json.dumps(document, indent=1), encoding="utf-8")
     return path
-
-
-# --- figures ------------------------------------------------------------------------------
-
-
-def _new_figure(width: float, height: float) -> Any:
-    """A figure of plot area `width` × `height` inches plus a legend column on the right."""
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
-    total = width + LEGEND_WIDTH
-    figure = Figure(figsize=(total, height))
-    # fixed margins: a layout engine would double the drawing time of each figure
-    figure.subplots_adjust(left=0.7 / total, right=(width - 0.15) / total,
-                           bottom=0.55 / height, top=1 - 0.35 / height, wspace=2.2 / width)
-    FigureCanvasAgg(figure)
-    return figure
-
-
-# Line style per search direction, the same in every figure: the direction is
-# visible at a glance (solid: steepest descent, dashed: L-BFGS, dotted: nonlinear CG).
-DIRECTION_LINESTYLES = (("SteepestDescent", "-"), ("LBFGS", "--"), ("NonlinearCG", ":"))
-# Line styles for other directions, in order of appearance.
-OTHER_LINESTYLES = ("-.", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 3)), (0, (8, 3)))
-# Markers that tell apart solvers left with the same colour and line style.
-MARKERS = ("o", "s", "^", "v", "D", "P", "X", "*", "<", ">")
-
-
-def _palette(count: int) -> list[tuple]:
-    """`count` colours: tab10 while it suffices, else tab20's dark shades, then its light."""
-    from matplotlib import colormaps
-
-    if count <= 10:
-        return list(colormaps["tab10"].colors)
-    colors = colormaps["tab20"].colors
-    return list(colors[0::2]) + list(colors[1::2])
-
-
-def solver_styles(results: Results, order: Sequence[str] | None = None
-                  ) -> dict[str, dict[str, Any]]:
-    """Line style of each solver, the same in every figure of a report.
-
-    The colour follows the controller (in ranking order, so the best get the first
-    colours of the palette), the line style the direction (`DIRECTION_LINESTYLES`),
-    and a marker is added when two solvers would otherwise look alike (more
-    controllers than colours, or several stopping rules). Every solver gets a
-    distinct (colour, line style, marker) triple.
-    """
-    order = solver_order(results) if order is None else list(order)
-    parts = {results.solver(r): (r.controller, r.direction) for r in results}
-    controllers = list(dict.fromkeys(parts[s][0] for s in order if s in parts))
-    directions = list(dict.fromkeys(parts[s][1] for s in order if s in parts))
-    colors = _palette(len(controllers))
-    linestyles: dict[str, Any] = {}
-    others = iter(OTHER_LINESTYLES * (1 + len(directions) // len(OTHER_LINESTYLES)))
-    for direction in directions:
-        known = [style for prefix, style in DIRECTION_LINESTYLES
-                 if direction.startswith(prefix)]
-        linestyles[direction] = known[0] if known else next(others)
-    styles: dict[str, dict[str, Any]] = {}
-    seen: dict[tuple, int] = {}
-    for solver in order:
-        controller, direction = parts.get(solver, (solver, ""))
-        index = controllers.index(controller) if controller in controllers else 0
-        color = colors[index % len(colors)]
-        linestyle = linestyles.get(direction, "-")
-        base = (color, str(linestyle))
-        repeat = seen.get(base, 0)  # solvers already drawn in this colour and line style
-        seen[base] = repeat + 1
-        style: dict[str, Any] = {"color": color, "linestyle": linestyle}
-        if repeat:
-            style["marker"] = MARKERS[(repeat - 1) % len(MARKERS)]
-            style["markevery"] = 0.2
-            style["markersize"] = 4
-        styles[solver] = style
-    return styles
-
-
-def _legend(figure: Any, axes: Any, order: Sequence[str] | None = None) -> None:
-    handles, labels = axes.get_legend_handles_labels()
-    if order is not None:  # legend entries in ranking order, one per solver
-        by_label = dict(zip(labels, handles, strict=True))
-        labels = [label for label in order if label in by_label]
-        handles = [by_label[label] for label in labels]
-    if handles:
-        width, height = figure.get_size_inches()
-        figure.legend(handles, [_cut(label, 52) for label in labels], fontsize="small",
-                      loc="upper left", frameon=False, handlelength=3.0,
-                      bbox_to_anchor=(1 - (LEGEND_WIDTH - 0.1) / width, 1 - 0.3 / height))
-
-
-def performance_figure(results: Results, *, measure: str = "evaluations",
-                       log2_tau_max: float = DEFAULT_LOG2_TAU_MAX) -> Any:
-    """Dolan–Moré performance profiles ρ_s(τ) on a log₂ τ axis (a matplotlib Figure).
-
-    The axis runs from τ = 1 to 2^`log2_tau_max`: the range the robustness score
-    integrates over. Ratios beyond it are left off the plot, as they are off the score.
-    """
-    _, solvers, costs = results.cost_matrix(measure)
-    order = solver_order(results, measure=measure)
-    styles = solver_styles(results, order)
-    figure = _new_figure(5.6, 3.6)
-    axes = figure.add_subplot()
-    ratios = performance_ratios(costs)
-    top = 2.0 ** log2_tau_max
-    finite = ratios[np.isfinite(ratios) & (ratios <= top)]
-    taus = np.unique(np.concatenate([[1.0, top], finite]))
-    profile = performance_profile(costs, taus)
-    for solver in order:
-        j = solvers.index(solver)
-        axes.step(taus, profile[:, j], where="post", label=solver, **styles[solver])
-    axes.set_xscale("log", base=2)
-    axes.set_xlim(1.0, top)
-    axes.set_ylim(-0.02, 1.02)
-    axes.set_xlabel(f"τ (within a factor τ of the fewest {measure})")
-    axes.set_ylabel("fraction of problems ρ(τ)")
-    axes.set_title("Performance profile (Dolan–Moré)", fontsize="medium")
-    axes.grid(alpha=0.3)
-    _legend(figure, axes, order)
-    return figure
-
-
-def data_figure(results: Results, *,
-                tolerances: Sequence[float] = DATA_PROFILE_TOLERANCES) -> Any:
-    """Moré–Wild data profiles d_s(κ), one panel per tolerance τ (a matplotlib Figure)."""
-    order = solver_order(results)
-    styles = solver_styles(results, order)
-    figure = _new_figure(4.0 * len(tolerances), 3.6)
-    panels = figure.subplots(1, len(tolerances), squeeze=False)[0]
-    for axes, tolerance in zip(panels, tolerances, strict=True):
-        _, solvers, first, dimensions = results.first_success_matrix(tolerance)
-        scaled = first / (dimensions[:, np.newaxis] + 1.0) if first.size else first
-        finite = scaled[np.isfinite(scaled)]
-        top = max(1.0, float(finite.max()) * 1.05) if finite.size else 1.0
-        kappas = np.unique(np.concatenate([[0.0, top], finite]))
-        profile = data_profile(first, dimensions, kappas)
-        for solver in order:
-            j = solvers.index(solver)
-            axes.step(kappas, profile[:, j], where="post", label=solver, **styles[solver])
-        axes.set_xscale("symlog", linthresh=1.0)
-        axes.set_xlim(0.0, top)
-        axes.set_ylim(-0.02, 1.02)
-        axes.set_xlabel("κ (evaluations / (n + 1))")
-        axes.set_ylabel("fraction of problems d(κ)")
-        axes.set_title(f"Data profile, τ = {tolerance:g}", fontsize="medium")
-        axes.grid(alpha=0.3)
-    _legend(figure, panels[0], order)
-    return figure
-
-
-# Raw gradient-norm curves under their running minima: thin and faint.
-RAW_CURVE_ALPHA = 0.25
-RAW_CURVE_WIDTH = 0.6
-
-
-def _running_minimum(axes: Any, evaluations: np.ndarray, curve: np.ndarray, solver: str,
-                     style: dict[str, Any]) -> None:
-    """The best-so-far of `curve` in the solver's style; the raw curve faint beneath it."""
-    with np.errstate(invalid="ignore"):
-        best = np.fmin.accumulate(curve)
-    if not np.array_equal(best, curve, equal_nan=True):
-        axes.plot(evaluations, curve, alpha=RAW_CURVE_ALPHA, linewidth=RAW_CURVE_WIDTH,
-                  color=style["color"])
-    axes.plot(evaluations, best, label=solver, linewidth=1.2, **style)
-
-
-def convergence_figure(results: Results, instance: tuple) -> Any:
-    """f − f_ref and ‖∇f‖∞ against evaluations on one problem instance, one line per solver.
-
-    f_ref is the lower of the known optimum and the lowest value any run reached,
-    so every plotted gap is >= 0 (floored at GAP_FLOOR·max(1, |f_ref|) for the log
-    axis). Both axes are logarithmic, so runs of 50 and of 10 000 evaluations both
-    show their whole curve. Each panel draws each run's running minimum (the best
-    gap or ‖∇f‖∞ so far) with the raw curve thin and faint beneath it: nonmonotone,
-    Barzilai–Borwein and Polyak runs oscillate and would hide the others.
-    """
-    records = [r for r in results if r.instance == instance and r.history is not None]
-    reference = results.reference(instance)
-    lowest = results.lowest_value(instance)
-    candidates = [v for v in (reference, lowest) if v is not None]
-    f_ref = min(candidates) if candidates else 0.0
-    floor = GAP_FLOOR * max(1.0, abs(f_ref))
-    figure = _new_figure(8.0, 3.4)
-    gap_axes, gradient_axes = figure.subplots(1, 2)
-    order = solver_order(results)
-    styles = solver_styles(results, order)
-    rank = {solver: i for i, solver in enumerate(order)}
-    records.sort(key=lambda record: -rank[results.solver(record)])  # the best drawn on top
-    for record in records:
-        history = record.history
-        evaluations = np.maximum(history.values + history.gradients, 1)
-        solver = results.solver(record)
-        style = styles[solver]
-        with np.errstate(invalid="ignore"):
-            gaps = np.maximum(history.value - f_ref, floor)
-        _running_minimum(gap_axes, evaluations, gaps, solver, style)
-        _running_minimum(gradient_axes, evaluations,
-                         np.maximum(history.gradient_norm, 1e-300), solver, style)
-    problem, dimension, start, seed = instance
-    title = f"{problem} (n={dimension}, start {start}" + (
-        f", seed {seed})" if seed is not None else ")")
-    for axes, label in ((gap_axes, "f − f_ref (best so far; raw faint)"),
-                        (gradient_axes, "‖∇f‖∞ (best so far; raw faint)")):
-        axes.set_xscale("log")
-        axes.set_yscale("log")
-        axes.set_xlabel("evaluations (values + gradients, log scale)")
-        axes.set_ylabel(label)
-        axes.grid(alpha=0.3)
-    gap_axes.set_title(f"{title}: value gap", fontsize="medium")
-    gradient_axes.set_title("gradient norm", fontsize="medium")
-    _legend(figure, gap_axes, order)
-    return figure
-
-
-def _encode(figure: Any, form: str = "png") -> bytes:
-    from matplotlib.text import Text
-
-    for text in figure.findobj(Text):  # names are plain text: `$` is not math
-        text.set_parse_math(False)
-    buffer = io.BytesIO()
-    figure.savefig(buffer, format=form, dpi=PNG_DPI)
-    return buffer.getvalue()
-
-
-def _slug(instance: tuple) -> str:
-    problem, dimension, start, seed = instance
-    text = f"{problem}_n{dimension}_{start}" + ("" if seed is None else f"_seed{seed}")
-    slug = "".join(c if c.isalnum() or c in "-_." else "_" for c in text)
-    if len(slug) > SLUG_LIMIT:  # file names have a length limit; keep them distinct
-        slug = slug[:SLUG_LIMIT - 9] + "_" + hashlib.sha256(text.encode()).hexdigest()[:8]
-    return slug
-
-
-def write_figures(results: Results, folder: str | Path, *, form: str = "png",
-                  convergence_limit: int = MAX_CONVERGENCE_PLOTS) -> list[Path]:
-    """Save every report figure as PNG or SVG files in `folder`; return their paths."""
-    form = _validate.choice("form", form, ("png", "svg"))
-    folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
-    written = []
-    figures = [("performance_profile", performance_figure(results)),
-               ("data_profiles", data_figure(results))]
-    for instance in results.instances()[:convergence_limit]:
-        figures.append((f"convergence_{_slug(instance)}", convergence_figure(results, instance)))
-    for name, figure in figures:
-        path = folder / f"{name}.{form}"
-        path.write_bytes(_encode(figure, form))
-        written.append(path)
-    return written
 
 
 # --- HTML ---------------------------------------------------------------------------------
@@ -656,7 +225,6 @@ def write_html(results: Results, path: str | Path, *, title: str = "linestep ben
     ``linestep advise``), if given, then one recommendation sentence per direction
     family (the rule of `linestep.advice`: robustness first, then cost).
     """
-    from linestep.advice import recommendation_sentences
 
     rows = ranking(results)
     order = [row["solver"] for row in rows]

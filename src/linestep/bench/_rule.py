@@ -9,8 +9,9 @@ A *set-up* is a controller paired with a direction. Over the runs of a study:
    over its solved runs;
 3. ties: the set-up that comes first in the study.
 
-A set-up that solved nothing is never recommended. `advise` and the HTML report
-of every study use this rule.
+A set-up that solved nothing is never recommended. `linestep.advise`, the HTML report
+of every study and its headline (`linestep.bench.report.recommend`) use this rule
+(`rule_key`).
 """
 
 from __future__ import annotations
@@ -22,7 +23,12 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["Standing", "recommendation_sentences", "standings"]
+__all__ = ["Standing", "recommendation_sentences", "rule_key", "standings"]
+
+
+def rule_key(solved: int, runs: int, median: float | None, order: int) -> tuple[float, float, int]:
+    """The sort key of the rule: robustness first, then cost, then order (smaller is better)."""
+    return (-(solved / runs if runs else 0.0), math.inf if median is None else median, order)
 
 
 @dataclass(frozen=True, slots=True, kw_only=True)
@@ -49,7 +55,7 @@ class Standing:
 
     def key(self) -> tuple[float, float, int]:
         """The sort key of the rule: robustness first, then cost, then study order."""
-        return (-self.fraction, math.inf if self.median is None else self.median, self.order)
+        return rule_key(self.solved, self.runs, self.median, self.order)
 
 
 def failure_text(record: Any) -> str:
