@@ -10,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from linestep import Status
+from linestep.searches.more_thuente import MoreThuente
 from linestep.searches.wolfe import Wolfe
 
 from .test_more_thuente import (
@@ -197,6 +198,43 @@ def test_unbounded_below_stops_at_max_size(strong):
     assert step.status is Status.step_too_large
     assert step.size == 1e6 and step.value == -1e6
     assert step.evaluations.values <= 40
+
+
+def test_concave_stretch_extrapolates_to_the_upper_bound():
+    # Issue 14, §3 (invented ray): φ(t) = −t² − 0.01·t. The cubic through two trials
+    # of a concave quadratic degenerates at rounding level; a model step that does not
+    # lie beyond t takes the upper bound t + 4·(t − t_prev) (Moré & Thuente 1994,
+    # case 3), so the trials grow by the same factor as Moré–Thuente's.
+    objective = (lambda x: float(-x[0] ** 2 - 0.01 * x[0]),
+                 lambda x: np.array([-2.0 * x[0] - 0.01]))
+    wolfe = Wolfe(max_size=1e6, record_trials=True)(objective, np.zeros(1), np.ones(1))
+    more_thuente = MoreThuente(max_size=1e6, record_trials=True)(objective, np.zeros(1),
+                                                                 np.ones(1))
+    assert wolfe.status is more_thuente.status is Status.step_too_large
+    assert trial_sizes(wolfe)[:4] == [1.0, 5.0, 21.0, 85.0]
+    assert len(wolfe.trials) <= len(more_thuente.trials) + 1
+
+
+@pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
+def test_random_concave_rays_need_no_more_trials_than_more_thuente(strong):
+    # Invented rays f(x) = bᵀx − ½·xᵀDx (the setting of benchmarks/concave_rays.py):
+    # the median number of trials stays within one of Moré–Thuente's.
+    rng = np.random.default_rng(14)
+    counts = {"wolfe": [], "more_thuente": []}
+    for _ in range(20):
+        eigenvalues = 10.0 ** rng.uniform(-3.0, 3.0, 5)
+        b = rng.standard_normal(5)
+        objective = (lambda x, b=b, e=eigenvalues: float(b @ x - 0.5 * x @ (e * x)),
+                     lambda x, b=b, e=eigenvalues: b - e * x)
+        x0, d = rng.standard_normal(5), rng.standard_normal(5)
+        if objective[1](x0) @ d > 0.0:
+            d = -d
+        for name, search in (("wolfe", Wolfe(max_size=1e6, strong=strong)),
+                             ("more_thuente", MoreThuente(max_size=1e6))):
+            step = search(objective, x0, d)
+            assert step.status is Status.step_too_large
+            counts[name].append(step.evaluations.values)
+    assert np.median(counts["wolfe"]) <= np.median(counts["more_thuente"]) + 1
 
 
 def test_kink_collapses_the_bracket():

@@ -46,7 +46,8 @@ class Wolfe(StepController):
     or brackets an acceptable step: the trial fails sufficient decrease, does
     not improve on the previous trial, or has φ' ≥ 0. Each new bracketing trial
     is the minimiser of the cubic through the last two trials, kept in
-    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``. The zoom phase then
+    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``, or the upper end when
+    that minimiser does not lie beyond t (Moré & Thuente's rule). The zoom phase then
     narrows the bracket [t_lo, t_hi], where t_lo is the trial with sufficient
     decrease and the least value so far, with trials at the minimiser of the
     cubic that matches φ and φ' at both ends. The trial stays a tenth of the
@@ -176,7 +177,10 @@ class Wolfe(StepController):
         high = size + expand * increment
         model = cubic_from_slopes(previous.size, previous.value, previous.slope,
                                   size, point.value, point.slope)
-        if model is None or model > high:
+        # A model step not beyond t (a cubic that falls without bound ahead, or one
+        # degenerate at rounding level on a concave stretch) takes the upper bound, as
+        # in Moré–Thuente's case 3; clipping it to the lower bound would crawl.
+        if model is None or model <= size or model > high:
             model = high
         elif model < low:
             model = low
