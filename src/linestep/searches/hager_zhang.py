@@ -13,6 +13,8 @@ from linestep._step import Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
 
+INF = math.inf
+
 # After a non-finite trial the next one is this fraction of the way from the lower
 # end of the bracket (our safeguard, the same factor as Armijo's; not in the paper).
 NON_FINITE_SHRINK = 0.1
@@ -70,9 +72,19 @@ class HagerZhang(StepController):
 
     The scale C_k of ε_k is the running average of Hager & Zhang (2006, §3),
     Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f(x_k)| − C_{k−1})/Q_k with Q_{−1} = 0,
-    and Δ = `epsilon_memory`. The default Δ = 0 gives C_k = |f(x_k)|, the rule
-    of the 2005 paper, and keeps calls independent; Δ = 0.7 is CG_DESCENT's
-    choice (recalled from memory) and carries C_k between calls until `reset()`.
+    and Δ = `epsilon_memory`. The default Δ = 0.7 is CG_DESCENT's choice
+    (recalled from memory); Δ = 0 gives C_k = |f(x_k)|, the rule of the 2005 paper.
+
+    The approximate Wolfe conditions are used only once the values settle: from
+    the first call with |f(x_k) − f(x_{k−1})| ≤ ω·C_k on (ω = `approximate_switch`;
+    Hager & Zhang 2006, §3, as we recall it), where f(x_{k−1}) is φ(0) of the previous
+    call; until then a step must meet (T1)–(T2), and the value tests of the bracket
+    rules (B2, U2, U3b) compare φ(t) − δ·t·φ'(0) with φ(0) + ε_k, so that
+    the bracket cannot grow past every step with sufficient decrease. The search
+    thus keeps state between calls, meant as successive iterations x_k of one
+    descent: C_k, Q_k, the previous φ(0) and the switch; `reset()` clears them (a
+    fresh or reset search starts with the standard Wolfe conditions). ω = inf uses
+    the approximate conditions from the first call, as the 2005 paper does.
 
     Parameters
     ----------
@@ -95,7 +107,12 @@ class HagerZhang(StepController):
         parameter list of CG_DESCENT; recalled from memory).
     epsilon_memory : float
         Δ, 0 <= epsilon_memory <= 1, weight of earlier |f| in C_k (see above).
-        Default 0 (the 2005 rule).
+        Default 0.7 (CG_DESCENT; recalled from memory); 0 is the 2005 rule.
+    approximate_switch : float
+        ω >= 0: the approximate Wolfe conditions apply from the first call with
+        |f(x_k) − f(x_{k−1})| ≤ ω·C_k on, until `reset()` (see above). Default 1e-3
+        (Hager & Zhang 2006; recalled from memory); ``inf`` applies them from the
+        first call.
     initial : float or trial strategy
         The first trial (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
         `ScaledTrial`, `HagerZhangStart` for the paper's I0 and I2, or a number).
@@ -139,12 +156,14 @@ class HagerZhang(StepController):
     """
 
     _fields = ("c1", "c2", "epsilon", "theta", "shrink_test", "expand", "epsilon_memory",
-               "initial", "max_size", "max_evaluations", "record_trials")
+               "approximate_switch", "initial", "max_size", "max_evaluations",
+               "record_trials")
 
     def __init__(self, *, c1: float = 0.1, c2: float = 0.9, epsilon: float = 1e-6,
                  theta: float = 0.5, shrink_test: float = 0.66, expand: float = 5.0,
-                 epsilon_memory: float = 0.0, initial: Any = 1.0, max_size: float = 1e10,
-                 max_evaluations: int = 40, record_trials: bool = False) -> None:
+                 epsilon_memory: float = 0.7, approximate_switch: float = 1e-3,
+                 initial: Any = 1.0, max_size: float = 1e10, max_evaluations: int = 40,
+                 record_trials: bool = False) -> None:
         super().__init__()
         self.c1, self.c2 = _validate.curvature_pair(c1, c2)
         if not self.c1 < 0.5:
@@ -158,6 +177,9 @@ class HagerZhang(StepController):
         self.expand = _validate.within("expand", expand, 1.0, math.inf)  # > 1: trials grow
         self.epsilon_memory = _validate.within("epsilon_memory", epsilon_memory, 0.0, 1.0,
                                                include_low=True, include_high=True)
+        self.approximate_switch = _validate.within(  # ω; inf: from the first call
+            "approximate_switch", approximate_switch, 0.0, INF, include_low=True,
+            include_high=True)
         self.initial = _initial.resolve(initial)
         self.max_size = _validate.positive("max_size", max_size)
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
@@ -167,6 +189,8 @@ class HagerZhang(StepController):
     def _reset_state(self) -> None:
         self._weight = 0.0  # Q_{k-1} of the running average
         self._scale = 0.0  # C_{k-1}
+        self._previous_value: float | None = None  # f(x_{k-1}), the previous call's φ(0)
+        self._approximate = False  # the approximate Wolfe conditions are switched on
 
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
@@ -176,6 +200,14 @@ class HagerZhang(StepController):
         scale = self._scale + (abs(f0) - self._scale) / weight
         self._weight, self._scale = weight, scale
         epsilon_k = self.epsilon * scale
+        # The approximate conditions are switched on for good once
+        # |f(x_k) − f(x_{k−1})| ≤ ω·C_k (Hager & Zhang 2006, §3; recalled from memory).
+        approximate = self._approximate
+        if not approximate:
+            previous, switch = self._previous_value, self.approximate_switch
+            approximate = self._approximate = switch == INF or (
+                previous is not None and abs(f0 - previous) <= switch * scale)
+        self._previous_value = f0
         size = first if first < self.max_size else self.max_size
         # The first trial is tested here, so that the common case of an accepted
         # first trial skips building the walk (same tests as `_Walk.probe`).
@@ -184,9 +216,10 @@ class HagerZhang(StepController):
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
                 return point, Status.accepted, _WOLFE
-            if slope <= (2.0 * c1 - 1.0) * d0 and point.value <= f0 + epsilon_k:
+            if (approximate and slope <= (2.0 * c1 - 1.0) * d0
+                    and point.value <= f0 + epsilon_k):
                 return point, Status.accepted, _APPROXIMATE
-        walk = _Walk(self, ray, epsilon_k)
+        walk = _Walk(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
             low, high = walk.bracket(size)
@@ -207,19 +240,26 @@ class _Walk:
     """One call's search: the thresholds as floats and the paper's procedures."""
 
     __slots__ = ("ray", "f0", "d0", "c1", "limit", "curvature", "approximate", "theta",
-                 "expand", "max_size")
+                 "expand", "max_size", "shift")
 
-    def __init__(self, search: HagerZhang, ray: Ray, epsilon_k: float) -> None:
+    def __init__(self, search: HagerZhang, ray: Ray, epsilon_k: float,
+                 approximate: bool = True) -> None:
         origin = ray.origin
         f0, d0 = origin.value, origin.slope
         self.ray = ray
         self.f0, self.d0, self.c1 = f0, d0, search.c1
         self.limit = f0 + epsilon_k  # φ(0) + ε_k
         self.curvature = search.c2 * d0  # σ·φ'(0)
-        self.approximate = (2.0 * search.c1 - 1.0) * d0  # (2δ − 1)·φ'(0)
+        # (2δ − 1)·φ'(0); −inf (no finite slope passes) while the switch is off.
+        self.approximate = (2.0 * search.c1 - 1.0) * d0 if approximate else -INF
         self.theta = search.theta
         self.expand = search.expand
         self.max_size = search.max_size
+        # Without the approximate conditions the value tests of B2, U2 and U3b compare
+        # ψ(t) = φ(t) − δ·t·φ'(0) with φ(0) + ε_k (a trial above the sufficient-decrease
+        # line is too long), so the bracket cannot run past every step meeting (T1);
+        # slopes and secant steps stay those of φ.
+        self.shift = 0.0 if approximate else search.c1 * d0
 
     def probe(self, size: float) -> Point:
         """Evaluate φ and φ' at `size`; stop the search if the point is acceptable."""
@@ -243,13 +283,14 @@ class _Walk:
     def bracket(self, size: float) -> tuple[Point, Point]:
         """B0–B3: grow the trial until [a, b] holds a point with φ' ≥ 0."""
         low = self.ray.origin
+        shift = self.shift
         while True:
             point = self.probe(size)
             slope = point.slope
             if slope is not None and slope >= 0.0:  # B1
                 return low, point
-            if slope is None or point.value > self.limit:  # B2 (non-finite: too long)
-                return self.bisect(low, point)
+            if slope is None or point.value - size * shift > self.limit:  # B2 (non-finite:
+                return self.bisect(low, point)  # too long)
             if size >= self.max_size:
                 raise _Stop((self.ray.best, Status.step_too_large))
             low = point  # B3
@@ -264,13 +305,13 @@ class _Walk:
         if slope is not None:
             if slope >= 0.0:  # U1
                 return low, point
-            if point.value <= self.limit:  # U2
+            if point.value - size * self.shift <= self.limit:  # U2
                 return point, high
         return self.bisect(low, point)  # U3 (non-finite: too long)
 
     def bisect(self, low: Point, high: Point) -> tuple[Point, Point]:
         """U3a–c: split [low, high] at weight θ until a point with φ' ≥ 0 turns up."""
-        theta, limit = self.theta, self.limit
+        theta, limit, shift = self.theta, self.limit, self.shift
         while True:
             width = self.check_width(low, high)
             weight = theta if high.slope is not None else NON_FINITE_SHRINK
@@ -282,7 +323,7 @@ class _Walk:
             if slope is not None:
                 if slope >= 0.0:  # U3a
                     return low, point
-                if point.value <= limit:  # U3b
+                if point.value - size * shift <= limit:  # U3b
                     low = point
                     continue
             high = point  # U3c
