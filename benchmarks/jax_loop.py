@@ -107,6 +107,9 @@ def main() -> None:
     args = parser.parse_args()
     print(f"extended Rosenbrock, float64, L-BFGS (m = {MEMORY}); medians over "
           f"{args.repeats} repeats; JAX {jax.__version__} on {jax.default_backend()}")
+    print(f"  stop ‖∇f‖∞ ≤ {GRADIENT_ATOL:g} or {MAX_ITERATIONS} iterations; scipy L-BFGS-B: "
+          f"maxcor = {MEMORY}, gtol = {GRADIENT_ATOL:g}, ftol = 0 (the gradient test decides), "
+          f"maxiter = {MAX_ITERATIONS}, maxfun = {10 * MAX_ITERATIONS}, maxls = 20 (default)")
     header = (f"{'n':>8}  {'compiled':>12} {'host':>12} {'scipy':>12}   "
               f"{'host/comp':>9} {'scipy/comp':>10}   iterations (c/h/s)   values (c/h/s)")
     print(header)

@@ -475,7 +475,7 @@ def test_bad_specs_are_named_in_the_error(tmp_path: Path, monkeypatch, source: s
 
 
 def test_suites() -> None:
-    assert suite_names() == ["default", "mgh", "quadratics", "logistic"]
+    assert suite_names() == ["default", "mgh", "quadratics", "logistic", "large"]
     assert len(suite("mgh")) == 35  # MGH 1981 has 35 problems
     quadratics = suite("quadratics")
     assert [p.name for p in quadratics] == [f"quadratic_cond_1e{k}" for k in range(1, 7)]

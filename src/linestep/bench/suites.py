@@ -8,6 +8,8 @@ quadratics invented ill-conditioned quadratics, κ = 1e1 … 1e6 (seeded)
 logistic   L2-regularised logistic regression on the Wisconsin Diagnostic
            Breast Cancer data (needs scikit-learn, which ships the data)
 default    a short mix: 6 MGH problems, 2 quadratics, 1 logistic problem
+large      22 scalable classic problems (MGH 1981 variable-dimension ones,
+           Andrei 2008 extended forms) at n = 1000 or `dimension`
 ========== ==============================================================
 
 Every problem has a known optimal value, so runs are judged against it.
@@ -20,12 +22,14 @@ W. N. Street, W. H. Wolberg and O. L. Mangasarian, "Nuclear feature extraction
 for breast tumor diagnosis", IS&T/SPIE International Symposium on Electronic
 Imaging: Science and Technology, vol. 1905, pp. 861-870, 1993 (the UCI
 Wisconsin Diagnostic Breast Cancer data set).
+N. Andrei, "An unconstrained optimization test functions collection",
+Advanced Modeling and Optimization 10(1):147-161, 2008.
 
 Examples
 --------
 >>> from linestep.bench.suites import quadratic_problem, suite_names
 >>> suite_names()
-['default', 'mgh', 'quadratics', 'logistic']
+['default', 'mgh', 'quadratics', 'logistic', 'large']
 >>> problem = quadratic_problem(1e3, dimension=5)
 >>> problem.name, problem.dimension, problem.optimal_values
 ('quadratic_cond_1e3', 5, (0.0,))
@@ -43,6 +47,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate
+from linestep.bench import _large
 from linestep.bench.problems import Problem, get_problem, mgh_problems
 
 __all__ = [
@@ -50,6 +55,7 @@ __all__ = [
     "LogisticLoss",
     "Quadratic",
     "breast_cancer_data",
+    "large_problems",
     "logistic_problem",
     "logistic_problems",
     "quadratic_problem",
@@ -63,6 +69,8 @@ QUADRATIC_CONDITIONS = tuple(10.0 ** k for k in range(1, 7))
 QUADRATIC_DIMENSION = 50  # large enough for a spread spectrum, small enough to be quick
 # L2 penalties λ of the logistic suite; smaller λ means a flatter, harder problem.
 LOGISTIC_PENALTIES = (1e-2, 1e-3, 1e-4)
+# Default number of variables of the large suite's problems.
+LARGE_DIMENSION = 1000
 # Newton reference solve for the logistic optimum: stop at this max-norm gradient.
 REFERENCE_GRADIENT_TOL = 1e-13
 REFERENCE_MAX_ITERATIONS = 100
@@ -75,7 +83,7 @@ DEFAULT_MGH = ("rosenbrock", "beale", "helical_valley", "powell_singular",
 
 def suite_names() -> list[str]:
     """Names accepted by `suite` and by ``linestep bench SUITE``."""
-    return ["default", "mgh", "quadratics", "logistic"]
+    return ["default", "mgh", "quadratics", "logistic", "large"]
 
 
 def has_logistic_data() -> bool:
@@ -83,7 +91,7 @@ def has_logistic_data() -> bool:
     return importlib.util.find_spec("sklearn") is not None
 
 
-def suite(name: str, *, seed: int = 0) -> list[Problem]:
+def suite(name: str, *, seed: int = 0, dimension: int | None = None) -> list[Problem]:
     """The problems of a built-in suite.
 
     Parameters
@@ -92,6 +100,9 @@ def suite(name: str, *, seed: int = 0) -> list[Problem]:
         One of `suite_names`.
     seed : int
         Seed of the quadratics' random spectra bases and minimisers.
+    dimension : int, optional
+        Number of variables of the ``"large"`` problems (a multiple of 4, at least 8;
+        default `LARGE_DIMENSION`). Only that suite takes it.
 
     Notes
     -----
@@ -99,6 +110,13 @@ def suite(name: str, *, seed: int = 0) -> list[Problem]:
     installed (`has_logistic_data` says which); ``"logistic"`` then raises
     ImportError.
     """
+    if dimension is not None and name != "large":
+        raise ValueError(
+            f"`dimension` applies to the 'large' suite only; got dimension={dimension!r} "
+            f"with suite {name!r}. Leave it out, or ask for suite 'large'."
+        )
+    if name == "large":
+        return large_problems(LARGE_DIMENSION if dimension is None else dimension)
     if name == "mgh":
         return mgh_problems()
     if name == "quadratics":
@@ -299,3 +317,44 @@ def logistic_problem(penalty: float = 1e-3) -> Problem:
 def logistic_problems(penalties: tuple[float, ...] = LOGISTIC_PENALTIES) -> list[Problem]:
     """The logistic suite: one `logistic_problem` per penalty λ."""
     return [logistic_problem(penalty) for penalty in penalties]
+
+
+# --- scalable problems (MGH 1981 variable-dimension, Andrei 2008 extended forms) ----------
+
+
+def large_problems(dimension: int = LARGE_DIMENSION) -> list[Problem]:
+    """The large suite: 22 scalable classic problems with n = `dimension` variables.
+
+    Every value and gradient costs O(n) numpy work (no Jacobian is formed). Standard
+    starts and optimal values come from Moré–Garbow–Hillstrom 1981 and Andrei 2008;
+    each problem's `reference` names its source and how its optimal value is known.
+
+    Parameters
+    ----------
+    dimension : int
+        A multiple of 4 (the extended Powell and Wood functions use groups of 4), >= 8.
+
+    Examples
+    --------
+    >>> from linestep.bench.suites import large_problems
+    >>> problems = large_problems(8)
+    >>> len(problems), problems[0].name, problems[0].dimension
+    (22, 'extended_rosenbrock_n8', 8)
+    """
+    dimension = _validate.integer("dimension", dimension, minimum=8)
+    if dimension % 4:
+        raise ValueError(
+            f"`dimension` must be a multiple of 4 for the large suite; got "
+            f"dimension={dimension}. Try {dimension + 4 - dimension % 4}."
+        )
+    problems = []
+    for kind in _large.LARGE_PROBLEMS:
+        problem = kind(dimension)
+        problems.append(Problem(
+            name=f"{problem.name}_n{dimension}", value=problem.value,
+            gradient=problem.gradient, start=problem.start_point(),
+            optimal_values=_large.optimal_values(problem),
+            reference=f"{problem.source}; n = {dimension}. Formulas recalled from memory "
+                      "(Moré, Garbow & Hillstrom 1981 = MGH; Andrei 2008 = A08).",
+        ))
+    return problems
