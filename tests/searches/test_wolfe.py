@@ -72,14 +72,30 @@ def test_zoom_is_exact_on_a_quadratic():
 
 
 def test_trusted_cubic_reaches_a_minimiser_near_the_end():
-    # An ill-conditioned 1-D quadratic: minimiser at t = 1e-6, first trial 1. The cubic and
-    # the quadratic agree (both exact), so the second trial is the minimiser itself.
+    # An ill-conditioned 1-D quadratic: minimiser at t = 1e-6, first trial 1. t = 1 fails
+    # sufficient decrease and costs no gradient (N&W Alg. 3.6), so the quadratic alone
+    # models the bracket and is kept a tenth inside it: t = 0.1. There it points near
+    # the end again; φ'(0.1) lets the cubic agree with it (both exact), and the third
+    # trial is the minimiser itself.
     fun = lambda x: 0.5e6 * float((x[0] - 1e-6) ** 2)  # noqa: E731
     grad = lambda x: 1e6 * (x - 1e-6)  # noqa: E731
     step = Wolfe(record_trials=True)((fun, grad), np.array([0.0]), np.array([1.0]))
     assert step.status is Status.accepted
-    assert len(step.trials) == 2
+    assert trial_sizes(step)[:2] == [1.0, pytest.approx(0.1)] and len(step.trials) == 3
     assert step.size == pytest.approx(1e-6)
+    # x, then values at the three trials; gradients at x, at 0.1 and at the minimiser.
+    assert step.evaluations.values == 4 and step.evaluations.gradients == 3
+
+
+def test_a_trial_rejected_on_its_value_costs_no_gradient():
+    # φ(t) = (t − 0.5)²·4 + …: from x = (3, −4) along −∇f the unit step overshoots to a
+    # value no lower than φ(0); the quadratic then gives the exact minimiser 0.5.
+    f = lambda x: float(x @ x)  # noqa: E731
+    g = lambda x: 2 * x  # noqa: E731
+    x = np.array([3.0, -4.0])
+    step = Wolfe(record_trials=True)((f, g), x, -g(x), value=25.0, gradient=g(x))
+    assert [trial.slope for trial in step.trials][0] is None
+    assert step.evaluations.values == 2 and step.evaluations.gradients == 1
 
 
 # -- the six functions of Moré & Thuente 1994 --------------------------------------------
