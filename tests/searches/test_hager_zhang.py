@@ -114,6 +114,22 @@ def test_unit_step_overshoot_takes_one_secant_step():
     assert step.message.startswith("The step satisfies the Wolfe conditions")
 
 
+def test_cubic_replaces_the_secant_while_values_inform():
+    # Invented φ(t) = t³/3 − t/4: t = 1 has φ' > 0 (B1). The secant of φ' through 0 and
+    # 1 gives 0.25; the cubic matching φ and φ' at both ends is φ itself, so its
+    # minimiser 0.5 is exact, and (T1)–(T2) hold there (our rule, see `_Walk.model`).
+    f = lambda x: float(x[0] ** 3 / 3.0 - 0.25 * x[0])  # noqa: E731
+    g = lambda x: np.array([x[0] ** 2 - 0.25])  # noqa: E731
+    step, f0, d0 = run(HagerZhang(record_trials=True), f, g, np.zeros(1), np.ones(1))
+    assert [trial.size for trial in step.trials] == [1.0, pytest.approx(0.5, rel=1e-12)]
+    assert check_accepted(step, f0, d0, np.ones(1), epsilon_k=0.0) == "wolfe"
+    # Where the end values differ by less than 10·ε_k the secant is kept: a huge ε
+    # (with |φ(0)| = 1, ε_k = ε) makes every value difference "rounding level".
+    secant, _, _ = run(HagerZhang(epsilon=1e3, record_trials=True),
+                       lambda x: 1.0 + f(x), g, np.zeros(1), np.ones(1))
+    assert secant.trials[1].size == pytest.approx(0.25, rel=1e-12)
+
+
 def test_acceptable_first_trial_costs_one_evaluation():
     x = np.array([3.0, -4.0])
     step, _, _ = run(HagerZhang(initial=0.5), square, square_gradient, x,
