@@ -540,7 +540,7 @@ def test_initial_strategies(initial):
 
 def test_start_rule_i0_cases():
     # [HZ06] I0 (recalled): (a) ψ0‖x‖∞/‖g‖∞, (b) ψ0|f|/‖g‖₂², (c) 1; I2: ψ2·previous.
-    start = HagerZhangStart(fraction=0.5)
+    start = HagerZhangStart(fraction=0.5, probe=None)
     search = HagerZhang(initial=start, record_trials=True)
     x = np.array([3.0, -4.0])
     assert search((square, square_gradient), x, -square_gradient(x)).trials[0].size == 0.25
@@ -556,6 +556,27 @@ def test_start_rule_i0_cases():
     accepted = search((square, square_gradient), x, -square_gradient(x))
     again = search((square, square_gradient), x, -square_gradient(x))
     assert again.trials[0].size == 2.0 * accepted.size
+
+
+def test_start_rule_i1_fits_a_quadratic_through_one_probe():
+    # [HZ06] I1 (recalled): φ at ψ1·t_prev, then the minimiser of the quadratic through
+    # φ(0), φ'(0) and that value; exact on a quadratic φ. One value is spent on the probe.
+    search = HagerZhang(initial=HagerZhangStart(probe=0.1), record_trials=True)
+    x = np.array([3.0, -4.0])
+    first = search((square, square_gradient), x, -square_gradient(x))
+    x = first.x
+    step = search((square, square_gradient), x, -square_gradient(x), value=square(x),
+                  gradient=square_gradient(x))
+    assert step.trials[0].size == pytest.approx(0.1 * first.size, rel=1e-15)
+    assert step.trials[1].size == pytest.approx(0.5, rel=1e-9)
+    assert step.evaluations == Evaluations(values=2, gradients=1)
+    # A concave quadratic through the probe falls back to I2 (growth·t_prev).
+    f = lambda x: float(-(x @ x))  # noqa: E731
+    g = lambda x: -2.0 * x  # noqa: E731
+    search.reset()
+    search._memory.size = 1.0  # as after an accepted unit step
+    step = search((f, g), x, -g(x), value=f(x), gradient=g(x))
+    assert step.trials[0].size == 0.1 and step.trials[1].size == 2.0
 
 
 def test_repr_rebuilds():

@@ -380,13 +380,17 @@ class _Walk:
 
 
 class HagerZhangStart:
-    """First trial by the rules I0 and I2 of Hager & Zhang (2006, §3).
+    """First trial by the rules I0, I1 and I2 of Hager & Zhang (2006, §3).
 
     I0 (no step accepted yet): t = fraction·‖x‖∞/‖g‖∞ when x ≠ 0, else
     t = fraction·|f(x)|/‖g‖₂² when f(x) ≠ 0, else t = 1. These scale a step along
-    d = −g, as at the first iteration of CG_DESCENT. I2 (afterwards): t = growth
-    times the previous accepted step. The rule I1 (a quadratic through one extra
-    value) is not provided.
+    d = −g, as at the first iteration of CG_DESCENT. Afterwards, with t_prev the
+    previous accepted step: I1 evaluates φ at `probe`·t_prev (one value, counted
+    by the search's ray) and takes the minimiser of the quadratic through φ(0),
+    φ'(0) and that value when the value is no higher than φ(0) and the quadratic
+    is strictly convex; otherwise (or with ``probe=None``) I2 takes t = growth·t_prev.
+    I1 makes the first trial nearly exact where φ is close to quadratic, which
+    conjugate-gradient directions need to stay conjugate.
 
     Parameters
     ----------
@@ -394,6 +398,9 @@ class HagerZhangStart:
         ψ0, default 0.01 (Hager & Zhang 2006; recalled from memory).
     growth : float
         ψ2, default 2 (same source; recalled from memory).
+    probe : float or None
+        ψ1, 0 < probe < 1, where I1 probes φ; default 0.1 (same source; recalled
+        from memory). None switches I1 off (I2 only).
 
     Examples
     --------
@@ -406,20 +413,32 @@ class HagerZhangStart:
     >>> step = search((f, g), x, -g(x))   # I0: t = 0.01·4/8, then grown by 5
     >>> [trial.size for trial in step.trials], step.status
     ([0.005, 0.025, 0.125], Status.accepted)
+    >>> sizes = [trial.size for trial in search((f, g), step.x, -g(step.x)).trials]
+    >>> sizes[0], round(sizes[1], 9)   # I1: φ at 0.1·0.125, then the quadratic's minimiser
+    (0.0125, 0.5)
+    >>> search = HagerZhang(initial=HagerZhangStart(probe=None), record_trials=True)
+    >>> step = search((f, g), x, -g(x))
     >>> [trial.size for trial in search((f, g), step.x, -g(step.x)).trials]  # I2
     [0.25]
     """
 
-    def __init__(self, *, fraction: float = 0.01, growth: float = 2.0) -> None:
+    def __init__(self, *, fraction: float = 0.01, growth: float = 2.0,
+                 probe: float | None = 0.1) -> None:
         self.fraction = _validate.positive("fraction", fraction)
         self.growth = _validate.positive("growth", growth)
+        self.probe = None if probe is None else _validate.open_unit("probe", probe)
 
     def __repr__(self) -> str:
-        return f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r})"
+        return (f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r}, "
+                f"probe={self.probe!r})")
 
     def guess(self, memory: _initial.Memory, ray: Any) -> float:
-        if memory.size is not None:  # I2
-            return self.growth * memory.size
+        if memory.size is not None:
+            if self.probe is not None:  # I1
+                quadratic = self._quadratic(memory.size, ray)
+                if quadratic is not None:
+                    return quadratic
+            return self.growth * memory.size  # I2
         origin = ray.origin
         gradient = origin.gradient
         if gradient is None:
@@ -435,3 +454,20 @@ class HagerZhangStart:
         else:  # I0(c)
             guess = 1.0
         return guess if math.isfinite(guess) and guess > 0.0 else 1.0
+
+    def _quadratic(self, previous: float, ray: Any) -> float | None:
+        """I1: the minimiser of the quadratic through φ(0), φ'(0) and φ(ψ1·previous),
+        when that value is no higher than φ(0) and the quadratic is strictly convex."""
+        origin = ray.origin
+        f0, d0 = origin.value, origin.slope
+        if f0 is None or d0 is None:
+            return None
+        size = self.probe * previous
+        value = ray.value(size).value  # one value (the ray counts it)
+        if not value <= f0:
+            return None
+        curvature = (value - f0 - d0 * size) / (size * size)  # q(t) = f0 + d0·t + c·t²
+        if not curvature > 0.0:
+            return None
+        guess = -d0 / (2.0 * curvature)
+        return guess if math.isfinite(guess) and guess > 0.0 else None
