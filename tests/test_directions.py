@@ -199,6 +199,26 @@ def test_two_loop_pure_function_on_hand_pairs():
     np.testing.assert_allclose(_two_loop(y[1], s, y, rho, [0, 1], 0.5), s[1], rtol=1e-14)
 
 
+@pytest.mark.parametrize("how", ["deepcopy", "pickle"])
+def test_lbfgs_copied_in_mid_run_continues_alike(how):
+    # The compact form keeps several arrays of state; a copy taken after the ring has
+    # wrapped must carry on exactly as the original.
+    import copy
+    import pickle
+
+    A, b = spd_quadratic(5, seed=2, condition=50.0)
+    rng = np.random.default_rng(4)
+    points = list(rng.standard_normal((12, 5)))
+    original = LBFGS(3)
+    for x in points[:8]:
+        original(x, A @ x - b)
+    twin = (copy.deepcopy(original) if how == "deepcopy"
+            else pickle.loads(pickle.dumps(original)))
+    for x in points[8:]:
+        np.testing.assert_array_equal(twin(x, A @ x - b), original(x, A @ x - b))
+    assert (twin.stored, twin.skipped) == (original.stored, original.skipped)
+
+
 def test_ring_buffer_keeps_the_newest_pairs_in_order():
     A, b = spd_quadratic(3, seed=7, condition=5.0)
     rng = np.random.default_rng(1)

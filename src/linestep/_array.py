@@ -107,7 +107,7 @@ def all_finite(a: Any) -> bool:
 def max_abs(a: Any) -> float:
     """The max-norm ‖a‖∞ as a float (0.0 for an empty array)."""
     if isinstance(a, np.ndarray):
-        return float(np.max(np.abs(a))) if a.size else 0.0
+        return float(np.abs(a).max()) if a.size else 0.0
     xp = namespace(a)
     return float(xp.max(xp.abs(a))) if a.size else 0.0
 

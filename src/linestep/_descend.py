@@ -168,7 +168,8 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     verdict = stop(progress)
     iteration = 0
     while verdict is None:
-        if not (math.isfinite(value) and _array.all_finite(gradient)):
+        # The recorded ‖∇f‖∞ is finite exactly when every entry of ∇f is.
+        if not (math.isfinite(value) and math.isfinite(record.last_gradient_norm)):
             # Whatever the stopping rule, a non-finite point ends the run (never a crash).
             verdict = Verdict(kind=Kind.failed, criterion="descend", reason=(
                 f"The value or gradient became non-finite at iteration {iteration} "
@@ -192,7 +193,8 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
             value = step.value
             gradient = step.gradient if step.gradient is not None else objective.gradient(x)
         iteration += 1
-        evaluations = objective.evaluations - start_evaluations
+        evaluations = Evaluations(values=objective.values - start_evaluations.values,
+                                  gradients=objective.gradients - start_evaluations.gradients)
         record.add(value, gradient, step.size, evaluations, restarted, step.status.value)
         progress = Progress(iteration=iteration, evaluations=evaluations, x=x, value=value,
                             gradient=gradient, step=step, start_value=progress.start_value,
@@ -219,7 +221,7 @@ def _merge(first: Step, second: Step) -> Step:
 
 class _Recorder:
     __slots__ = ("value", "gradient_norm", "size", "values", "gradients", "restarted",
-                 "status", "last_evaluations")
+                 "status", "last_evaluations", "last_gradient_norm")
 
     def __init__(self) -> None:
         self.value: list[float] = []
@@ -230,11 +232,13 @@ class _Recorder:
         self.restarted: list[bool] = []
         self.status: list[str] = []
         self.last_evaluations = Evaluations()
+        self.last_gradient_norm = 0.0
 
     def add(self, value: float, gradient: Any, size: float, evaluations: Evaluations,
             restarted: bool, status: str) -> None:
         self.value.append(value)
-        self.gradient_norm.append(_array.max_abs(gradient))
+        norm = self.last_gradient_norm = _array.max_abs(gradient)
+        self.gradient_norm.append(norm)
         self.size.append(size)
         self.values.append(evaluations.values)
         self.gradients.append(evaluations.gradients)

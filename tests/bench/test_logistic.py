@@ -32,7 +32,10 @@ from linestep.directions import LBFGS  # noqa: E402
 from linestep.searches.more_thuente import MoreThuente  # noqa: E402
 
 COEFFICIENT_RTOL = 1e-6
-TIGHT = stopping.GradientNorm(atol=1e-10, rtol=0.0) | stopping.MaxIterations(5000)
+# At ‖∇f‖∞ ≈ 1e-10 the value is flat to rounding (f − f* ≈ 1e-17), and whether a
+# Wolfe-type search still finds a decrease there depends on the rounding of the path;
+# 1e-9 is reached on every path and still pins the coefficients far below 1e-6.
+TIGHT = stopping.GradientNorm(atol=1e-9, rtol=0.0) | stopping.MaxIterations(5000)
 
 
 def _sklearn_coefficients(penalty: float) -> np.ndarray:

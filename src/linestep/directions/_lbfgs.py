@@ -1,4 +1,5 @@
-"""Limited-memory BFGS directions (Liu & Nocedal 1989; Nocedal & Wright Alg. 7.4)."""
+"""Limited-memory BFGS directions (Liu & Nocedal 1989), in the compact form of
+Byrd, Nocedal & Schnabel 1994."""
 
 from __future__ import annotations
 
@@ -8,25 +9,22 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _validate
-from linestep.directions._base import (
-    _as_output,
-    _check_same_problem,
-    _flat_pair,
-    _is_descent,
-    _Previous,
-    _Rebuildable,
-)
+from linestep.directions._base import _as_output, _Rebuildable
 
 
 class LBFGS(_Rebuildable):
     """Limited-memory BFGS: d = −H_k·∇f from the last `memory` curvature pairs.
 
     Each call forms the pair s = x_k − x_{k−1}, y = ∇f_k − ∇f_{k−1} from the
-    previous call and keeps the newest `memory` pairs. H_k·∇f is computed by the
-    two-loop recursion (Nocedal & Wright Alg. 7.4) with the initial matrix
-    H0 = γ·I, γ = sᵀy / yᵀy of the newest pair (N&W eq. 7.20). Cost per call:
-    about 4·m·n multiply-adds; memory: 2·m·n numbers, in x's dtype, allocated
-    once in ring buffers (n = x.size, any shape is flattened and reshaped back).
+    previous call and keeps the newest `memory` pairs. H_k·∇f is the product with
+    the L-BFGS matrix of N&W eq. 7.19 (initial matrix H0 = γ·I, γ = sᵀy / yᵀy of
+    the newest pair, N&W eq. 7.20), computed in the compact form of Byrd, Nocedal
+    and Schnabel (1994): one product of the stored pairs with ∇f, one combination
+    of them, and O(m²) work on small m×m matrices kept up to date as pairs come
+    and go; the same matrix as the two-loop recursion (N&W Alg. 7.4), in a few
+    large array operations instead of about 4·m small ones. Cost per call: about
+    6·m·n multiply-adds; memory: 2·(m + 1)·n numbers in x's dtype, allocated once
+    (n = x.size, any shape is flattened and reshaped back).
 
     Rules:
 
@@ -78,8 +76,11 @@ class LBFGS(_Rebuildable):
     Math. Comp. 35(151):773–782, 1980.
     D. C. Liu and J. Nocedal, "On the limited memory BFGS method for large scale
     optimization", Math. Programming 45:503–528, 1989.
+    R. H. Byrd, J. Nocedal and R. B. Schnabel, "Representations of quasi-Newton
+    matrices and their use in limited memory methods", Math. Programming
+    63:129–156, 1994.
     J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed., 2006,
-    Alg. 7.4, eq. 7.20, §6.1.
+    Alg. 7.4, eqs. 7.19–7.20, §6.1.
 
     Examples
     --------
@@ -118,75 +119,205 @@ class LBFGS(_Rebuildable):
         self.restarted = False
         self.stored = 0
         self.skipped = 0
-        self._previous: _Previous | None = None
-        self._s: np.ndarray | None = None
-        self._y: np.ndarray | None = None
-        self._rho: np.ndarray | None = None
-        self._newest = -1  # ring-buffer slot of the newest pair
+        self._shape: tuple[int, ...] | None = None  # x's shape, set by the first call
+        self._pairs: np.ndarray | None = None  # the history; allocated by the first call
 
     def __call__(self, x: Any, gradient: Any) -> Any:
-        _check_same_problem("LBFGS", self._previous, x)
-        x_flat, g = _flat_pair("LBFGS", x, gradient)
-        if self._previous is None or self._s is None:
-            self._allocate(x_flat.size, x_flat.dtype)
-        else:
-            with np.errstate(over="ignore", invalid="ignore"):  # overflow → skipped pair
-                self._update(x_flat - self._previous.x, g - self._previous.gradient)
-        self.restarted = False
-        if self.stored == 0:
-            d = self._steepest(g)
-        else:
-            with np.errstate(over="ignore", invalid="ignore"):  # overflow → restart below
-                d = -self._inverse_hessian_times(g)
-            if not _is_descent(g, d) and g.any():
-                self.stored = 0
-                self.restarted = True
+        shape = _array.shape(x)
+        if self._shape is not None and self._shape != shape:
+            raise ValueError(
+                f"`x` has shape {shape} but the previous call to LBFGS had shape "
+                f"{self._shape}; call reset() before starting on a new problem."
+            )
+        x_flat, g = _flat_views(x, gradient)
+        with np.errstate(over="ignore", invalid="ignore"):  # overflow → skip or restart
+            if self._pairs is None:
+                self._allocate(x_flat.size, x_flat.dtype)
+                np.copyto(self._columns[1], g)
+                products = None
+            else:
+                products = self._update(x_flat, g)
+            np.copyto(self._previous_x, x_flat)
+            self._shape = shape
+            self.restarted = False
+            if self.stored == 0:
                 d = self._steepest(g)
-        self._previous = _Previous(x_flat, g, None, _array.shape(x))
+            else:
+                d = self._direction(g, products)
+                # A finite gᵀd proves d finite too (an inf or NaN entry makes it inf or NaN).
+                slope = float(g @ d)
+                if not (slope < 0.0 and math.isfinite(slope)) and g.any():
+                    self._forget()
+                    self.restarted = True
+                    d = self._steepest(g)
+        if x.__class__ is np.ndarray and x.ndim == 1:
+            return d  # already x's kind and shape
         return _as_output(x, d)
 
     # -- internals ----------------------------------------------------------------
     def _steepest(self, g: np.ndarray) -> np.ndarray:
         if not self.scale_first:
             return -g
-        with np.errstate(over="ignore"):  # an overflowing norm leaves −g unscaled
-            norm = math.sqrt(float(g @ g))
+        norm = math.sqrt(float(g @ g))  # an overflowing norm leaves −g unscaled
         return -g / norm if norm > 1.0 and math.isfinite(norm) else -g
 
     def _allocate(self, size: int, dtype: np.dtype) -> None:
-        self._s = np.zeros((self.memory, size), dtype=dtype)
-        self._y = np.zeros((self.memory, size), dtype=dtype)
-        self._rho = np.zeros(self.memory, dtype=dtype)
+        """The history, allocated once: every later call works inside these arrays.
+
+        `_pairs` holds s in rows 0..m and y in rows m+1..2m+1: a ring of m + 1 slots,
+        one more than the pairs kept, so that a new pair is written into the free slot
+        before the skip rule decides on it (no copy, and a skipped pair overwrites
+        nothing). The small matrices are indexed by slot, not by age, with zero rows
+        and columns for the slots not in use (see `_append`), so no call reorders
+        anything; they are float64 whatever x's dtype.
+        """
+        slots = self.memory + 1
+        self._pairs = np.zeros((2 * slots, size), dtype=dtype)
+        # Row 0: the new y; row 1: ∇f of the previous call. One product of the history
+        # with both rows gives sᵢᵀy, yᵢᵀy (for the update) and sᵢᵀ∇f, yᵢᵀ∇f (for d).
+        # (No attribute holds a view into another array: copies and pickles of a
+        # direction in mid-run must stay whole.)
+        self._columns = np.zeros((2, size), dtype=dtype)
+        self._previous_x = np.empty(size, dtype=dtype)
+        self._scaled = np.empty(size, dtype=dtype)  # γ·g
+        # −N, the negated middle matrix of `_direction`; R⁻¹ (R_ij = s_iᵀy_j for pair i
+        # no newer than pair j, zero rows and columns at unused slots); YᵀY; D.
+        self._middle = np.zeros((2 * slots, 2 * slots))
+        self._inverse_r = np.zeros((slots, slots))
+        self._yy = np.zeros((slots, slots))
+        self._sy = np.zeros(slots)
+        self._core = np.zeros((slots, slots))  # −(D + γ·YᵀY)
         self._floor = skip_floor(self.curvature_tolerance, dtype)
+        self._gamma = 1.0
+        self._newest = 0  # slot of the newest pair
+        self._ages: list[int] = []  # slots in use, oldest first
         self.stored = 0
-        self._newest = -1
 
-    def _update(self, s: np.ndarray, y: np.ndarray) -> None:
-        if not s.any():
-            return  # x did not move: no new curvature information
-        curvature = float(s @ y)
-        s_norm, y_norm = math.sqrt(float(s @ s)), math.sqrt(float(y @ y))
-        if not (curvature > self._floor * s_norm * y_norm
-                and math.isfinite(curvature) and math.isfinite(s_norm * y_norm)):
+    @property
+    def _s(self) -> np.ndarray | None:
+        """The s rows of the history (one per slot), or None before the first call."""
+        return None if self._pairs is None else self._pairs[:self.memory + 1]
+
+    def _forget(self) -> None:
+        """Drop every pair (the buffers stay allocated)."""
+        self.stored = 0
+        self._ages = []
+        self._inverse_r.fill(0.0)
+
+    def _update(self, x: np.ndarray, g: np.ndarray) -> np.ndarray:
+        """Form s and y in the free slot, keep them as the newest pair unless skipped,
+        and return the products of the history with [y, g]."""
+        slots = self.memory + 1
+        free = (self._newest + 1) % slots
+        columns = self._columns
+        pairs = self._pairs
+        s = pairs[free]
+        np.subtract(x, self._previous_x, out=s)
+        np.subtract(g, columns[1], out=columns[0])  # y; row 1 holds the previous ∇f
+        np.copyto(pairs[slots + free], columns[0])
+        np.copyto(columns[1], g)
+        # Rows of unused slots hold stale pairs; the zero rows and columns of the small
+        # matrices at those slots cancel them.
+        products = pairs @ columns.T
+        ss = float(s @ s)
+        if ss == 0.0 and not s.any():
+            return products  # x did not move: no new curvature information
+        curvature, yy = float(products[free, 0]), float(products[slots + free, 0])
+        scale = math.sqrt(ss) * math.sqrt(yy)
+        if not (curvature > self._floor * scale
+                and math.isfinite(curvature) and math.isfinite(scale)):
             self.skipped += 1
-            return
-        slot = (self._newest + 1) % self.memory
-        self._s[slot] = s
-        self._y[slot] = y
-        self._rho[slot] = 1.0 / curvature
-        self._newest = slot
-        self.stored = min(self.stored + 1, self.memory)
+            # Clear the slot so that a non-finite pair cannot reach the products
+            # (0·inf in the small products would be NaN).
+            s.fill(0.0)
+            pairs[slots + free].fill(0.0)
+            products[free] = products[slots + free] = 0.0
+            return products
+        self._append(free, products[:, 0], curvature, yy)
+        return products
 
-    def _order(self) -> list[int]:
-        """Ring-buffer slots from the oldest pair to the newest."""
-        first = self._newest - self.stored + 1
-        return [(first + i) % self.memory for i in range(self.stored)]
+    def _append(self, free: int, products: np.ndarray, curvature: float, yy: float) -> None:
+        """Make the pair in slot `free` the newest; drop the oldest when memory is full.
 
-    def _inverse_hessian_times(self, g: np.ndarray) -> np.ndarray:
-        newest = self._newest
-        s, y = self._s[newest], self._y[newest]
-        gamma = float(s @ y) / float(y @ y)
-        return _two_loop(g, self._s, self._y, self._rho, self._order(), gamma)
+        In time order R is upper triangular, so appending a pair borders R⁻¹ with one
+        column (−R⁻¹c/sᵀy above 1/sᵀy, c the sᵢᵀy of the older pairs), and dropping the
+        oldest pair leaves the inverse of R's trailing block, which is R⁻¹'s trailing
+        block: in slot indexing its row is cleared (its column holds only the diagonal
+        entry). Every slot not in use then has a zero row and column in R⁻¹, which
+        cancel whatever stale numbers YᵀY, D and the products hold there.
+        """
+        slots = self.memory + 1
+        inverse_r, yys, ages = self._inverse_r, self._yy, self._ages
+        if len(ages) == self.memory:  # drop the oldest pair
+            inverse_r[ages.pop(0)] = 0.0
+        column = inverse_r @ products[:slots]
+        column *= -1.0 / curvature
+        inverse_r[:, free] = column
+        inverse_r[free, free] = 1.0 / curvature
+        row = products[slots:]
+        yys[free] = row
+        yys[:, free] = row
+        yys[free, free] = yy
+        self._sy[free] = curvature
+        ages.append(free)
+        self.stored = len(ages)
+        self._newest = free
+        gamma = self._gamma = curvature / yy  # N&W eq. 7.20
+        # −N = [[R⁻ᵀ·C·R⁻¹, γR⁻ᵀ], [γR⁻¹, 0]] with C = −(D + γ·YᵀY).
+        core, middle = self._core, self._middle
+        np.multiply(yys, -gamma, out=core)
+        core.reshape(-1)[::slots + 1] -= self._sy  # the diagonal, as a view
+        np.matmul(inverse_r.T @ core, inverse_r, out=middle[:slots, :slots])
+        np.multiply(inverse_r.T, gamma, out=middle[:slots, slots:])
+        np.multiply(inverse_r, gamma, out=middle[slots:, :slots])
+
+    def _direction(self, g: np.ndarray, products: np.ndarray | None) -> np.ndarray:
+        """−H·g from the compact form (Byrd, Nocedal & Schnabel 1994):
+
+        H = γI + [S Y]·N·[S Y]ᵀ with N = [[R⁻ᵀ(D + γ·YᵀY)R⁻¹, −γR⁻ᵀ], [−γR⁻¹, 0]]
+        (their eq. 2.6 with H0 = γI), so −H·g = −γ·g + [S Y]·(−N)·([S Y]ᵀg): the
+        product of the history with g (`products`, shared with the update), one small
+        product and one combination of the history's rows.
+        """
+        pairs = self._pairs
+        if products is None:
+            coefficients = pairs @ g
+        else:
+            coefficients = products[:, 1]
+        weights = self._middle @ coefficients
+        if weights.dtype != pairs.dtype:  # float32 history: d in x's dtype
+            weights = weights.astype(pairs.dtype)
+        d = weights @ pairs
+        np.multiply(g, self._gamma, out=self._scaled)
+        d -= self._scaled
+        return d
+
+
+def _flat_views(x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
+    """x and ∇f as flat numpy arrays in x's floating dtype, copied only when they must be.
+
+    LBFGS copies what it keeps into its own buffers, so a numpy caller's arrays are
+    read in place (a JAX or other array is converted to numpy once here).
+    """
+    if (x.__class__ is gradient.__class__ is np.ndarray and x.ndim == 1
+            and x.dtype is gradient.dtype and x.dtype.kind == "f" and x.shape == gradient.shape):
+        return x, gradient  # the common call from a loop
+    x_np = np.asarray(x)
+    if x_np.dtype.kind == "c":
+        raise TypeError(f"LBFGS works with real arrays; got `x` of dtype {x_np.dtype}.")
+    if x_np.dtype.kind != "f":
+        x_np = x_np.astype(np.float64)
+    g_np = np.asarray(gradient)
+    if g_np.shape != x_np.shape:
+        raise ValueError(
+            f"`gradient` must have the shape of `x`; got {g_np.shape} for `gradient` and "
+            f"{x_np.shape} for `x`."
+        )
+    if g_np.dtype.kind == "c":
+        raise TypeError(f"LBFGS works with real arrays; got `gradient` of dtype {g_np.dtype}.")
+    if g_np.dtype != x_np.dtype:
+        g_np = g_np.astype(x_np.dtype)
+    return x_np.reshape(-1), g_np.reshape(-1)
 
 
 def skip_floor(tolerance: float | None, dtype: Any) -> float:
@@ -197,6 +328,9 @@ def skip_floor(tolerance: float | None, dtype: Any) -> float:
 def _two_loop(g: np.ndarray, s: np.ndarray, y: np.ndarray, rho: np.ndarray,
               order: list[int], gamma: float) -> np.ndarray:
     """H·g by the two-loop recursion (N&W Alg. 7.4) with H0 = gamma·I.
+
+    The textbook form of the product `LBFGS` computes in compact form; kept as an
+    independent reference for the tests.
 
     `s`, `y` hold pairs in rows, `rho` their 1/sᵀy, and `order` lists the rows to
     use from the oldest pair to the newest.

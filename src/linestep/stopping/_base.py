@@ -142,6 +142,8 @@ def _scalar(value: Any) -> float:
 
 
 def _vector_norm(array: Any, order: float | int) -> float:
+    if order == math.inf and array.__class__ is np.ndarray and array.size:
+        return float(np.abs(array).max())  # the common case, without norm()'s checks
     flat = np.ravel(np.asarray(array))
     if flat.size == 0:
         return 0.0
