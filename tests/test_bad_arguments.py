@@ -202,6 +202,7 @@ CONSTRUCTION = [
     # HagerZhangStart
     refuses(HagerZhangStart, ValueError, "`fraction`", fraction=0.0),
     refuses(HagerZhangStart, ValueError, "`growth`", growth=-1.0),
+    refuses(HagerZhangStart, ValueError, "`probe`", probe=1.0),
     # NonmonotoneArmijo
     refuses(NonmonotoneArmijo, ValueError, "`memory` must be >= 1", memory=0),
     refuses(NonmonotoneArmijo, ValueError, "`memory`", memory=-3),

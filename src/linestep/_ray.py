@@ -147,7 +147,10 @@ class Ray:
 
     def _complete(self, point: Point, gradient: Any) -> Point:
         """Add the gradient and slope to a point whose value is cached."""
-        slope = _array.dot(gradient, self.direction)
+        direction = self.direction
+        slope = (float(gradient.dot(direction))  # the numpy fast path of value_and_slope
+                 if gradient.__class__ is _NDARRAY and gradient.ndim == 1
+                 else _array.dot(gradient, direction))
         point.gradient = gradient
         if isfinite(slope):
             point.slope = slope

@@ -114,6 +114,22 @@ def test_unit_step_overshoot_takes_one_secant_step():
     assert step.message.startswith("The step satisfies the Wolfe conditions")
 
 
+def test_cubic_replaces_the_secant_while_values_inform():
+    # Invented φ(t) = t³/3 − t/4: t = 1 has φ' > 0 (B1). The secant of φ' through 0 and
+    # 1 gives 0.25; the cubic matching φ and φ' at both ends is φ itself, so its
+    # minimiser 0.5 is exact, and (T1)–(T2) hold there (our rule, see `_Walk.model`).
+    f = lambda x: float(x[0] ** 3 / 3.0 - 0.25 * x[0])  # noqa: E731
+    g = lambda x: np.array([x[0] ** 2 - 0.25])  # noqa: E731
+    step, f0, d0 = run(HagerZhang(record_trials=True), f, g, np.zeros(1), np.ones(1))
+    assert [trial.size for trial in step.trials] == [1.0, pytest.approx(0.5, rel=1e-12)]
+    assert check_accepted(step, f0, d0, np.ones(1), epsilon_k=0.0) == "wolfe"
+    # Where the end values differ by less than 10·ε_k the secant is kept: a huge ε
+    # (with |φ(0)| = 1, ε_k = ε) makes every value difference "rounding level".
+    secant, _, _ = run(HagerZhang(epsilon=1e3, record_trials=True),
+                       lambda x: 1.0 + f(x), g, np.zeros(1), np.ones(1))
+    assert secant.trials[1].size == pytest.approx(0.25, rel=1e-12)
+
+
 def test_acceptable_first_trial_costs_one_evaluation():
     x = np.array([3.0, -4.0])
     step, _, _ = run(HagerZhang(initial=0.5), square, square_gradient, x,
@@ -281,7 +297,7 @@ def test_approximate_wolfe_accepts_when_values_are_equal_by_rounding():
     g = lambda x: np.array([x[0] - 3.0])  # noqa: E731
     x = np.array([3.0 + 1e-9])
     direction = -g(x)
-    step, f0, d0 = run(HagerZhang(), f, g, x, direction)
+    step, f0, d0 = run(HagerZhang(approximate_switch=math.inf), f, g, x, direction)
     assert check_accepted(step, f0, d0, direction, epsilon_k=1e-6 * abs(f0)) == "approximate"
     assert step.size == 1.0 and step.value == f0
     assert "approximate Wolfe" in step.message
@@ -300,7 +316,7 @@ def test_approximate_wolfe_accepts_where_armijo_cannot_certify_decrease():
     g = lambda x: np.array([x[0] - centre])  # noqa: E731
     x = np.array([centre + 1.1e-8])
     direction = -g(x)
-    step, f0, d0 = run(HagerZhang(), f, g, x, direction)
+    step, f0, d0 = run(HagerZhang(approximate_switch=math.inf), f, g, x, direction)
     assert f0 < 1e6 == step.value  # the rounding noise the test relies on
     assert check_accepted(step, f0, d0, direction, epsilon_k=1e-6 * abs(f0)) == "approximate"
     assert step.size == 1.0 and "approximate Wolfe" in step.message
@@ -315,7 +331,7 @@ def test_epsilon_zero_still_accepts_equal_values():
     f = lambda x: float(1e6 + 0.5 * (x[0] - 3.0) ** 2)  # noqa: E731
     g = lambda x: np.array([x[0] - 3.0])  # noqa: E731
     x = np.array([3.0 + 1e-9])
-    step, _, _ = run(HagerZhang(epsilon=0.0), f, g, x, -g(x))
+    step, _, _ = run(HagerZhang(epsilon=0.0, approximate_switch=math.inf), f, g, x, -g(x))
     assert step.ok and "approximate Wolfe" in step.message
 
 
@@ -337,13 +353,68 @@ def test_running_average_of_the_epsilon_scale():
     assert (search._weight, search._scale) == (0.0, 0.0)
 
 
-def test_default_scale_is_the_current_value():
-    search = HagerZhang()
+def test_without_memory_the_scale_is_the_current_value():
+    search = HagerZhang(epsilon_memory=0.0)
     x = np.array([3.0, -4.0])
     for _ in range(2):
         value = square(x)
         x = search((square, square_gradient), x, -0.1 * square_gradient(x)).x
         assert search._scale == abs(value)
+
+
+def test_approximate_conditions_switch_on_once_values_settle():
+    # [HZ06] §3 (recalled): (AW) is used once |f(x_k) − f(x_{k−1})| ≤ ω·C_k. The
+    # rounding-level function of the test above: a fresh search asks for (T1)–(T2),
+    # which φ(t) = φ(0) cannot meet, so it expands and ends without accepting.
+    f = lambda x: float(1e6 + 0.5 * (x[0] - 3.0) ** 2)  # noqa: E731
+    g = lambda x: np.array([x[0] - 3.0])  # noqa: E731
+    x = np.array([3.0 + 1e-9])
+    search = HagerZhang(max_evaluations=10)
+    first, _, _ = run(search, f, g, x, -g(x))
+    assert "approximate" not in first.message and not search._approximate
+    # A second call from a point with the same value: |f_k − f_{k−1}| = 0 ≤ ω·C_k.
+    second, f0, d0 = run(search, f, g, x, -g(x))
+    assert search._approximate
+    assert check_accepted(second, f0, d0, -g(x), epsilon_k=1e-6 * abs(f0)) == "approximate"
+    search.reset()
+    assert (search._previous_value, search._approximate) == (None, False)
+    assert (search._weight, search._scale) == (0.0, 0.0)
+
+
+def test_switch_waits_while_values_change():
+    # Values that change by more than ω·C_k keep the standard conditions.
+    search = HagerZhang(approximate_switch=1e-3)
+    x = np.array([3.0, -4.0])
+    for _ in range(3):
+        step = search((square, square_gradient), x, -0.1 * square_gradient(x))
+        assert step.ok and "approximate" not in step.message
+        x = step.x
+    assert not search._approximate
+
+
+def scipy_gh12157(alpha):
+    """φ and φ' of scipy's line-search regression case (scipy/optimize/tests/
+    test_linesearch.py, test_scalar_search_wolfe2_regression, gh-12157): linear
+    with slope −3π/2 up to 1, then cos(3πα/2 − π); its first minimiser is 4/3."""
+    if alpha < 1.0:
+        return -1.5 * math.pi * (alpha - 1.0), -1.5 * math.pi
+    return (math.cos(1.5 * math.pi * alpha - math.pi),
+            -1.5 * math.pi * math.sin(1.5 * math.pi * alpha - math.pi))
+
+
+def test_scipy_regression_case_is_not_accepted_at_the_step_cap():
+    # Issue 14, §3: each expansion by 5 lands at the same phase (φ = 0, φ' = −3π/2), and
+    # with (AW) from the first call the search ends at the cap 1e10, where (AW) does
+    # hold but (T1) fails by far. The first call now asks for (T1)–(T2).
+    f, g = one_dimensional(scipy_gh12157)
+    step, f0, d0 = run(HagerZhang(), f, g, np.zeros(1), np.ones(1))
+    assert check_accepted(step, f0, d0, np.ones(1), epsilon_k=0.0) == "wolfe"
+    # (T1) bounds the step: φ ≥ −1 gives t ≤ (φ(0) + 1)/(δ·|φ'(0)|) ≈ 12.1.
+    assert step.size < 12.2
+    old, f0, d0 = run(HagerZhang(approximate_switch=math.inf), f, g, np.zeros(1),
+                      np.ones(1))
+    assert old.size == 1e10
+    assert check_accepted(old, f0, d0, np.ones(1), epsilon_k=1e-6 * abs(f0)) == "approximate"
 
 
 # ---------------------------------------------------------------------------------
@@ -399,9 +470,13 @@ def test_approximate_wolfe_accepts_a_long_step_with_little_decrease():
     # and φ(1000) < φ(0), so (AW) holds although (T1) asks for φ ≤ −50. This is the
     # documented price of (AW) [HZ05] §4; CG_DESCENT's switch rule [HZ06] avoids it.
     f, g = one_dimensional(mt_functions()[0][1])
-    step, f0, d0 = run(HagerZhang(initial=1000.0), f, g, np.zeros(1), np.ones(1))
+    step, f0, d0 = run(HagerZhang(initial=1000.0, approximate_switch=math.inf), f, g,
+                       np.zeros(1), np.ones(1))
     assert check_accepted(step, f0, d0, np.ones(1), epsilon_k=0.0) == "approximate"
     assert step.size == 1000.0 and step.evaluations == Evaluations(values=1, gradients=1)
+    # With the switch (default), the first call asks for (T1)–(T2).
+    step, f0, d0 = run(HagerZhang(initial=1000.0), f, g, np.zeros(1), np.ones(1))
+    assert check_accepted(step, f0, d0, np.ones(1), epsilon_k=0.0) == "wolfe"
 
 
 # ---------------------------------------------------------------------------------
@@ -465,7 +540,7 @@ def test_initial_strategies(initial):
 
 def test_start_rule_i0_cases():
     # [HZ06] I0 (recalled): (a) ψ0‖x‖∞/‖g‖∞, (b) ψ0|f|/‖g‖₂², (c) 1; I2: ψ2·previous.
-    start = HagerZhangStart(fraction=0.5)
+    start = HagerZhangStart(fraction=0.5, probe=None)
     search = HagerZhang(initial=start, record_trials=True)
     x = np.array([3.0, -4.0])
     assert search((square, square_gradient), x, -square_gradient(x)).trials[0].size == 0.25
@@ -483,14 +558,37 @@ def test_start_rule_i0_cases():
     assert again.trials[0].size == 2.0 * accepted.size
 
 
+def test_start_rule_i1_fits_a_quadratic_through_one_probe():
+    # [HZ06] I1 (recalled): φ at ψ1·t_prev, then the minimiser of the quadratic through
+    # φ(0), φ'(0) and that value; exact on a quadratic φ. One value is spent on the probe.
+    search = HagerZhang(initial=HagerZhangStart(probe=0.1), record_trials=True)
+    x = np.array([3.0, -4.0])
+    first = search((square, square_gradient), x, -square_gradient(x))
+    x = first.x
+    step = search((square, square_gradient), x, -square_gradient(x), value=square(x),
+                  gradient=square_gradient(x))
+    assert step.trials[0].size == pytest.approx(0.1 * first.size, rel=1e-15)
+    assert step.trials[1].size == pytest.approx(0.5, rel=1e-9)
+    assert step.evaluations == Evaluations(values=2, gradients=1)
+    # A concave quadratic through the probe falls back to I2 (growth·t_prev).
+    f = lambda x: float(-(x @ x))  # noqa: E731
+    g = lambda x: -2.0 * x  # noqa: E731
+    search.reset()
+    search._memory.size = 1.0  # as after an accepted unit step
+    step = search((f, g), x, -g(x), value=f(x), gradient=g(x))
+    assert step.trials[0].size == 0.1 and step.trials[1].size == 2.0
+
+
 def test_repr_rebuilds():
     search = HagerZhang(c1=0.2, c2=0.5, epsilon=1e-8, theta=0.4, shrink_test=0.5,
-                        expand=3.0, epsilon_memory=0.7, initial=HagerZhangStart(),
+                        expand=3.0, epsilon_memory=0.5, approximate_switch=1e-2,
+                        initial=HagerZhangStart(),
                         max_size=1e6, max_evaluations=60, record_trials=True)
     namespace = {"HagerZhang": HagerZhang, "HagerZhangStart": HagerZhangStart}
     assert repr(eval(repr(search), namespace)) == repr(search)
     assert repr(HagerZhang()) == (
         "HagerZhang(c1=0.1, c2=0.9, epsilon=1e-06, theta=0.5, shrink_test=0.66, "
-        "expand=5.0, epsilon_memory=0.0, initial=1.0, max_size=10000000000.0, "
+        "expand=5.0, epsilon_memory=0.7, approximate_switch=0.001, initial=1.0, "
+        "max_size=10000000000.0, "
         "max_evaluations=40, record_trials=False)"
     )

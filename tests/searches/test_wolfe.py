@@ -10,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from linestep import Status
+from linestep.searches.more_thuente import MoreThuente
 from linestep.searches.wolfe import Wolfe
 
 from .test_more_thuente import (
@@ -71,14 +72,30 @@ def test_zoom_is_exact_on_a_quadratic():
 
 
 def test_trusted_cubic_reaches_a_minimiser_near_the_end():
-    # An ill-conditioned 1-D quadratic: minimiser at t = 1e-6, first trial 1. The cubic and
-    # the quadratic agree (both exact), so the second trial is the minimiser itself.
+    # An ill-conditioned 1-D quadratic: minimiser at t = 1e-6, first trial 1. t = 1 fails
+    # sufficient decrease and costs no gradient (N&W Alg. 3.6), so the quadratic alone
+    # models the bracket and is kept a tenth inside it: t = 0.1. There it points near
+    # the end again; φ'(0.1) lets the cubic agree with it (both exact), and the third
+    # trial is the minimiser itself.
     fun = lambda x: 0.5e6 * float((x[0] - 1e-6) ** 2)  # noqa: E731
     grad = lambda x: 1e6 * (x - 1e-6)  # noqa: E731
     step = Wolfe(record_trials=True)((fun, grad), np.array([0.0]), np.array([1.0]))
     assert step.status is Status.accepted
-    assert len(step.trials) == 2
+    assert trial_sizes(step)[:2] == [1.0, pytest.approx(0.1)] and len(step.trials) == 3
     assert step.size == pytest.approx(1e-6)
+    # x, then values at the three trials; gradients at x, at 0.1 and at the minimiser.
+    assert step.evaluations.values == 4 and step.evaluations.gradients == 3
+
+
+def test_a_trial_rejected_on_its_value_costs_no_gradient():
+    # φ(t) = (t − 0.5)²·4 + …: from x = (3, −4) along −∇f the unit step overshoots to a
+    # value no lower than φ(0); the quadratic then gives the exact minimiser 0.5.
+    f = lambda x: float(x @ x)  # noqa: E731
+    g = lambda x: 2 * x  # noqa: E731
+    x = np.array([3.0, -4.0])
+    step = Wolfe(record_trials=True)((f, g), x, -g(x), value=25.0, gradient=g(x))
+    assert [trial.slope for trial in step.trials][0] is None
+    assert step.evaluations.values == 2 and step.evaluations.gradients == 1
 
 
 # -- the six functions of Moré & Thuente 1994 --------------------------------------------
@@ -197,6 +214,43 @@ def test_unbounded_below_stops_at_max_size(strong):
     assert step.status is Status.step_too_large
     assert step.size == 1e6 and step.value == -1e6
     assert step.evaluations.values <= 40
+
+
+def test_concave_stretch_extrapolates_to_the_upper_bound():
+    # Issue 14, §3 (invented ray): φ(t) = −t² − 0.01·t. The cubic through two trials
+    # of a concave quadratic degenerates at rounding level; a model step that does not
+    # lie beyond t takes the upper bound t + 4·(t − t_prev) (Moré & Thuente 1994,
+    # case 3), so the trials grow by the same factor as Moré–Thuente's.
+    objective = (lambda x: float(-x[0] ** 2 - 0.01 * x[0]),
+                 lambda x: np.array([-2.0 * x[0] - 0.01]))
+    wolfe = Wolfe(max_size=1e6, record_trials=True)(objective, np.zeros(1), np.ones(1))
+    more_thuente = MoreThuente(max_size=1e6, record_trials=True)(objective, np.zeros(1),
+                                                                 np.ones(1))
+    assert wolfe.status is more_thuente.status is Status.step_too_large
+    assert trial_sizes(wolfe)[:4] == [1.0, 5.0, 21.0, 85.0]
+    assert len(wolfe.trials) <= len(more_thuente.trials) + 1
+
+
+@pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
+def test_random_concave_rays_need_no_more_trials_than_more_thuente(strong):
+    # Invented rays f(x) = bᵀx − ½·xᵀDx (the setting of benchmarks/concave_rays.py):
+    # the median number of trials stays within one of Moré–Thuente's.
+    rng = np.random.default_rng(14)
+    counts = {"wolfe": [], "more_thuente": []}
+    for _ in range(20):
+        eigenvalues = 10.0 ** rng.uniform(-3.0, 3.0, 5)
+        b = rng.standard_normal(5)
+        objective = (lambda x, b=b, e=eigenvalues: float(b @ x - 0.5 * x @ (e * x)),
+                     lambda x, b=b, e=eigenvalues: b - e * x)
+        x0, d = rng.standard_normal(5), rng.standard_normal(5)
+        if objective[1](x0) @ d > 0.0:
+            d = -d
+        for name, search in (("wolfe", Wolfe(max_size=1e6, strong=strong)),
+                             ("more_thuente", MoreThuente(max_size=1e6))):
+            step = search(objective, x0, d)
+            assert step.status is Status.step_too_large
+            counts[name].append(step.evaluations.values)
+    assert np.median(counts["wolfe"]) <= np.median(counts["more_thuente"]) + 1
 
 
 def test_kink_collapses_the_bracket():

@@ -58,7 +58,10 @@ class NonlinearCG(_Rebuildable):
     (still checked for descent).
 
     Pair it with a search that enforces the strong Wolfe conditions (c2 < 1/2 for
-    PR+, N&W §5.2); Armijo steps work but restart more often.
+    PR+, N&W §5.2); Armijo steps work but restart more often. CG_DESCENT's pairing,
+    ``HagerZhang(initial=HagerZhangStart())`` with the Hager–Zhang β, is the one
+    `benchmarks/nonlinear_cg.py` measures: its first-trial rule I1 makes steps nearly
+    exact where f is close to quadratic, which keeps the directions conjugate.
 
     Parameters
     ----------

@@ -7,15 +7,20 @@ from typing import Any
 
 from linestep import _array, _initial, _validate
 from linestep._controller import StepController
-from linestep._interpolate import quadratic_from_slopes
+from linestep._interpolate import cubic_from_slopes, quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
 from linestep._step import Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
 
+INF = math.inf
+
 # After a non-finite trial the next one is this fraction of the way from the lower
 # end of the bracket (our safeguard, the same factor as Armijo's; not in the paper).
 NON_FINITE_SHRINK = 0.1
+# Trials come from the cubic rather than the secant of φ' while the bracket's end values
+# differ by more than this many ε_k (they then carry information; our rule).
+VALUES_INFORM = 10.0
 # A bracket narrower than this many float64 spacings of its upper end has no interior
 # point left to try (the midpoint rounds to an end), whatever the rounding level in x.
 SIZE_SPACINGS = 4.0
@@ -62,7 +67,12 @@ class HagerZhang(StepController):
     brackets a point with φ' ≥ 0 or with φ above φ(0) + ε_k (procedure *bracket*,
     B0–B3); the bracket [a, b] then keeps φ'(a) < 0, φ(a) ≤ φ(0) + ε_k and
     φ'(b) ≥ 0 and shrinks by secant² steps (S1–S4): a secant step on φ', and a
-    second secant step from the end it replaced. Each new point updates the bracket
+    second secant step from the end it replaced. Where the values at the bracket's
+    ends differ by more than 10·ε_k, each of the two steps is instead the minimiser
+    of the cubic matching φ and φ' at both ends when it lies inside (our choice: it
+    uses the values, which the secant ignores, and needs fewer trials while they are
+    above rounding level), until a pass ends in the L2 bisection. Each new point
+    updates the bracket
     by U0–U3; U3 (a point with φ' < 0 above φ(0) + ε_k) bisects with weight
     `theta` (U3a–c). When a secant² step keeps more than `shrink_test` of the
     width, the bracket is bisected (L2). Non-finite values count as "too long":
@@ -70,9 +80,19 @@ class HagerZhang(StepController):
 
     The scale C_k of ε_k is the running average of Hager & Zhang (2006, §3),
     Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f(x_k)| − C_{k−1})/Q_k with Q_{−1} = 0,
-    and Δ = `epsilon_memory`. The default Δ = 0 gives C_k = |f(x_k)|, the rule
-    of the 2005 paper, and keeps calls independent; Δ = 0.7 is CG_DESCENT's
-    choice (recalled from memory) and carries C_k between calls until `reset()`.
+    and Δ = `epsilon_memory`. The default Δ = 0.7 is CG_DESCENT's choice
+    (recalled from memory); Δ = 0 gives C_k = |f(x_k)|, the rule of the 2005 paper.
+
+    The approximate Wolfe conditions are used only once the values settle: from
+    the first call with |f(x_k) − f(x_{k−1})| ≤ ω·C_k on (ω = `approximate_switch`;
+    Hager & Zhang 2006, §3, as we recall it), where f(x_{k−1}) is φ(0) of the previous
+    call; until then a step must meet (T1)–(T2), and the value tests of the bracket
+    rules (B2, U2, U3b) compare φ(t) − δ·t·φ'(0) with φ(0) + ε_k, so that
+    the bracket cannot grow past every step with sufficient decrease. The search
+    thus keeps state between calls, meant as successive iterations x_k of one
+    descent: C_k, Q_k, the previous φ(0) and the switch; `reset()` clears them (a
+    fresh or reset search starts with the standard Wolfe conditions). ω = inf uses
+    the approximate conditions from the first call, as the 2005 paper does.
 
     Parameters
     ----------
@@ -95,7 +115,12 @@ class HagerZhang(StepController):
         parameter list of CG_DESCENT; recalled from memory).
     epsilon_memory : float
         Δ, 0 <= epsilon_memory <= 1, weight of earlier |f| in C_k (see above).
-        Default 0 (the 2005 rule).
+        Default 0.7 (CG_DESCENT; recalled from memory); 0 is the 2005 rule.
+    approximate_switch : float
+        ω >= 0: the approximate Wolfe conditions apply from the first call with
+        |f(x_k) − f(x_{k−1})| ≤ ω·C_k on, until `reset()` (see above). Default 1e-3
+        (Hager & Zhang 2006; recalled from memory); ``inf`` applies them from the
+        first call.
     initial : float or trial strategy
         The first trial (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
         `ScaledTrial`, `HagerZhangStart` for the paper's I0 and I2, or a number).
@@ -139,12 +164,14 @@ class HagerZhang(StepController):
     """
 
     _fields = ("c1", "c2", "epsilon", "theta", "shrink_test", "expand", "epsilon_memory",
-               "initial", "max_size", "max_evaluations", "record_trials")
+               "approximate_switch", "initial", "max_size", "max_evaluations",
+               "record_trials")
 
     def __init__(self, *, c1: float = 0.1, c2: float = 0.9, epsilon: float = 1e-6,
                  theta: float = 0.5, shrink_test: float = 0.66, expand: float = 5.0,
-                 epsilon_memory: float = 0.0, initial: Any = 1.0, max_size: float = 1e10,
-                 max_evaluations: int = 40, record_trials: bool = False) -> None:
+                 epsilon_memory: float = 0.7, approximate_switch: float = 1e-3,
+                 initial: Any = 1.0, max_size: float = 1e10, max_evaluations: int = 40,
+                 record_trials: bool = False) -> None:
         super().__init__()
         self.c1, self.c2 = _validate.curvature_pair(c1, c2)
         if not self.c1 < 0.5:
@@ -158,6 +185,9 @@ class HagerZhang(StepController):
         self.expand = _validate.within("expand", expand, 1.0, math.inf)  # > 1: trials grow
         self.epsilon_memory = _validate.within("epsilon_memory", epsilon_memory, 0.0, 1.0,
                                                include_low=True, include_high=True)
+        self.approximate_switch = _validate.within(  # ω; inf: from the first call
+            "approximate_switch", approximate_switch, 0.0, INF, include_low=True,
+            include_high=True)
         self.initial = _initial.resolve(initial)
         self.max_size = _validate.positive("max_size", max_size)
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
@@ -167,6 +197,8 @@ class HagerZhang(StepController):
     def _reset_state(self) -> None:
         self._weight = 0.0  # Q_{k-1} of the running average
         self._scale = 0.0  # C_{k-1}
+        self._previous_value: float | None = None  # f(x_{k-1}), the previous call's φ(0)
+        self._approximate = False  # the approximate Wolfe conditions are switched on
 
     def _search(self, ray: Ray, first: float) -> tuple:
         origin = ray.origin
@@ -176,6 +208,14 @@ class HagerZhang(StepController):
         scale = self._scale + (abs(f0) - self._scale) / weight
         self._weight, self._scale = weight, scale
         epsilon_k = self.epsilon * scale
+        # The approximate conditions are switched on for good once
+        # |f(x_k) − f(x_{k−1})| ≤ ω·C_k (Hager & Zhang 2006, §3; recalled from memory).
+        approximate = self._approximate
+        if not approximate:
+            previous, switch = self._previous_value, self.approximate_switch
+            approximate = self._approximate = switch == INF or (
+                previous is not None and abs(f0 - previous) <= switch * scale)
+        self._previous_value = f0
         size = first if first < self.max_size else self.max_size
         # The first trial is tested here, so that the common case of an accepted
         # first trial skips building the walk (same tests as `_Walk.probe`).
@@ -184,9 +224,10 @@ class HagerZhang(StepController):
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
                 return point, Status.accepted, _WOLFE
-            if slope <= (2.0 * c1 - 1.0) * d0 and point.value <= f0 + epsilon_k:
+            if (approximate and slope <= (2.0 * c1 - 1.0) * d0
+                    and point.value <= f0 + epsilon_k):
                 return point, Status.accepted, _APPROXIMATE
-        walk = _Walk(self, ray, epsilon_k)
+        walk = _Walk(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
             low, high = walk.bracket(size)
@@ -195,6 +236,7 @@ class HagerZhang(StepController):
             while True:  # L1–L3
                 low, high = walk.secant2(low, high)
                 if high.size - low.size > shrink_test * width:
+                    walk.informative = INF  # the cubic did not pay: secants from now on
                     low, high = walk.update(low, high, 0.5 * (low.size + high.size))
                 # From the second pass on: a fresh bracket is rarely at rounding level,
                 # and skipping the first check saves two array norms per call.
@@ -207,19 +249,27 @@ class _Walk:
     """One call's search: the thresholds as floats and the paper's procedures."""
 
     __slots__ = ("ray", "f0", "d0", "c1", "limit", "curvature", "approximate", "theta",
-                 "expand", "max_size")
+                 "expand", "max_size", "shift", "informative")
 
-    def __init__(self, search: HagerZhang, ray: Ray, epsilon_k: float) -> None:
+    def __init__(self, search: HagerZhang, ray: Ray, epsilon_k: float,
+                 approximate: bool = True) -> None:
         origin = ray.origin
         f0, d0 = origin.value, origin.slope
         self.ray = ray
         self.f0, self.d0, self.c1 = f0, d0, search.c1
         self.limit = f0 + epsilon_k  # φ(0) + ε_k
         self.curvature = search.c2 * d0  # σ·φ'(0)
-        self.approximate = (2.0 * search.c1 - 1.0) * d0  # (2δ − 1)·φ'(0)
+        # (2δ − 1)·φ'(0); −inf (no finite slope passes) while the switch is off.
+        self.approximate = (2.0 * search.c1 - 1.0) * d0 if approximate else -INF
         self.theta = search.theta
         self.expand = search.expand
         self.max_size = search.max_size
+        # Without the approximate conditions the value tests of B2, U2 and U3b compare
+        # ψ(t) = φ(t) − δ·t·φ'(0) with φ(0) + ε_k (a trial above the sufficient-decrease
+        # line is too long), so the bracket cannot run past every step meeting (T1);
+        # slopes and secant steps stay those of φ.
+        self.shift = 0.0 if approximate else search.c1 * d0
+        self.informative = VALUES_INFORM * epsilon_k  # see `model`
 
     def probe(self, size: float) -> Point:
         """Evaluate φ and φ' at `size`; stop the search if the point is acceptable."""
@@ -243,13 +293,14 @@ class _Walk:
     def bracket(self, size: float) -> tuple[Point, Point]:
         """B0–B3: grow the trial until [a, b] holds a point with φ' ≥ 0."""
         low = self.ray.origin
+        shift = self.shift
         while True:
             point = self.probe(size)
             slope = point.slope
             if slope is not None and slope >= 0.0:  # B1
                 return low, point
-            if slope is None or point.value > self.limit:  # B2 (non-finite: too long)
-                return self.bisect(low, point)
+            if slope is None or point.value - size * shift > self.limit:  # B2 (non-finite:
+                return self.bisect(low, point)  # too long)
             if size >= self.max_size:
                 raise _Stop((self.ray.best, Status.step_too_large))
             low = point  # B3
@@ -264,13 +315,13 @@ class _Walk:
         if slope is not None:
             if slope >= 0.0:  # U1
                 return low, point
-            if point.value <= self.limit:  # U2
+            if point.value - size * self.shift <= self.limit:  # U2
                 return point, high
         return self.bisect(low, point)  # U3 (non-finite: too long)
 
     def bisect(self, low: Point, high: Point) -> tuple[Point, Point]:
         """U3a–c: split [low, high] at weight θ until a point with φ' ≥ 0 turns up."""
-        theta, limit = self.theta, self.limit
+        theta, limit, shift = self.theta, self.limit, self.shift
         while True:
             width = self.check_width(low, high)
             weight = theta if high.slope is not None else NON_FINITE_SHRINK
@@ -282,14 +333,19 @@ class _Walk:
             if slope is not None:
                 if slope >= 0.0:  # U3a
                     return low, point
-                if point.value <= limit:  # U3b
+                if point.value - size * shift <= limit:  # U3b
                     low = point
                     continue
             high = point  # U3c
 
     def secant2(self, low: Point, high: Point) -> tuple[Point, Point]:
-        """S1–S4: a secant step, then a second one from the end it replaced."""
-        size = quadratic_from_slopes(low.size, low.slope, high.size, high.slope)
+        """S1–S4: a secant step, then a second one from the end it replaced.
+
+        Each step is the cubic's minimiser instead of the secant's when the values
+        carry information (see `model`).
+        """
+        size = self.model(low, high, quadratic_from_slopes(low.size, low.slope, high.size,
+                                                           high.slope))
         if size is None or not low.size < size < high.size:  # U0 leaves [a, b]
             return low, high
         new_low, new_high = self.update(low, high, size)
@@ -299,19 +355,42 @@ class _Walk:
             second = quadratic_from_slopes(low.size, low.slope, size, new_low.slope)
         else:
             return new_low, new_high
+        second = self.model(new_low, new_high, second)
         if second is None:
             return new_low, new_high
         return self.update(new_low, new_high, second)  # S4
 
+    def model(self, low: Point, high: Point, secant: float | None) -> float | None:
+        """The minimiser of the cubic matching φ and φ' at both ends of [low, high] when
+        the end values differ by more than `VALUES_INFORM`·ε_k and it lies inside; else
+        `secant`. After an L2 bisection the search sets the threshold to inf.
+
+        The secant of φ' ignores the values, which is right where they are at rounding
+        level (the regime of the approximate conditions); elsewhere the cubic, which
+        uses them, needs fewer trials (our choice, measured on the MGH set with
+        L-BFGS; not in the papers).
+        """
+        if not abs(high.value - low.value) > self.informative:  # also false for inf
+            return secant
+        cubic = cubic_from_slopes(low.size, low.value, low.slope, high.size, high.value,
+                                  high.slope)
+        if cubic is not None and low.size < cubic < high.size:
+            return cubic
+        return secant
+
 
 class HagerZhangStart:
-    """First trial by the rules I0 and I2 of Hager & Zhang (2006, §3).
+    """First trial by the rules I0, I1 and I2 of Hager & Zhang (2006, §3).
 
     I0 (no step accepted yet): t = fraction·‖x‖∞/‖g‖∞ when x ≠ 0, else
     t = fraction·|f(x)|/‖g‖₂² when f(x) ≠ 0, else t = 1. These scale a step along
-    d = −g, as at the first iteration of CG_DESCENT. I2 (afterwards): t = growth
-    times the previous accepted step. The rule I1 (a quadratic through one extra
-    value) is not provided.
+    d = −g, as at the first iteration of CG_DESCENT. Afterwards, with t_prev the
+    previous accepted step: I1 evaluates φ at `probe`·t_prev (one value, counted
+    by the search's ray) and takes the minimiser of the quadratic through φ(0),
+    φ'(0) and that value when the value is no higher than φ(0) and the quadratic
+    is strictly convex; otherwise (or with ``probe=None``) I2 takes t = growth·t_prev.
+    I1 makes the first trial nearly exact where φ is close to quadratic, which
+    conjugate-gradient directions need to stay conjugate.
 
     Parameters
     ----------
@@ -319,6 +398,9 @@ class HagerZhangStart:
         ψ0, default 0.01 (Hager & Zhang 2006; recalled from memory).
     growth : float
         ψ2, default 2 (same source; recalled from memory).
+    probe : float or None
+        ψ1, 0 < probe < 1, where I1 probes φ; default 0.1 (same source; recalled
+        from memory). None switches I1 off (I2 only).
 
     Examples
     --------
@@ -331,20 +413,32 @@ class HagerZhangStart:
     >>> step = search((f, g), x, -g(x))   # I0: t = 0.01·4/8, then grown by 5
     >>> [trial.size for trial in step.trials], step.status
     ([0.005, 0.025, 0.125], Status.accepted)
+    >>> sizes = [trial.size for trial in search((f, g), step.x, -g(step.x)).trials]
+    >>> sizes[0], round(sizes[1], 9)   # I1: φ at 0.1·0.125, then the quadratic's minimiser
+    (0.0125, 0.5)
+    >>> search = HagerZhang(initial=HagerZhangStart(probe=None), record_trials=True)
+    >>> step = search((f, g), x, -g(x))
     >>> [trial.size for trial in search((f, g), step.x, -g(step.x)).trials]  # I2
     [0.25]
     """
 
-    def __init__(self, *, fraction: float = 0.01, growth: float = 2.0) -> None:
+    def __init__(self, *, fraction: float = 0.01, growth: float = 2.0,
+                 probe: float | None = 0.1) -> None:
         self.fraction = _validate.positive("fraction", fraction)
         self.growth = _validate.positive("growth", growth)
+        self.probe = None if probe is None else _validate.open_unit("probe", probe)
 
     def __repr__(self) -> str:
-        return f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r})"
+        return (f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r}, "
+                f"probe={self.probe!r})")
 
     def guess(self, memory: _initial.Memory, ray: Any) -> float:
-        if memory.size is not None:  # I2
-            return self.growth * memory.size
+        if memory.size is not None:
+            if self.probe is not None:  # I1
+                quadratic = self._quadratic(memory.size, ray)
+                if quadratic is not None:
+                    return quadratic
+            return self.growth * memory.size  # I2
         origin = ray.origin
         gradient = origin.gradient
         if gradient is None:
@@ -360,3 +454,20 @@ class HagerZhangStart:
         else:  # I0(c)
             guess = 1.0
         return guess if math.isfinite(guess) and guess > 0.0 else 1.0
+
+    def _quadratic(self, previous: float, ray: Any) -> float | None:
+        """I1: the minimiser of the quadratic through φ(0), φ'(0) and φ(ψ1·previous),
+        when that value is no higher than φ(0) and the quadratic is strictly convex."""
+        origin = ray.origin
+        f0, d0 = origin.value, origin.slope
+        if f0 is None or d0 is None:
+            return None
+        size = self.probe * previous
+        value = ray.value(size).value  # one value (the ray counts it)
+        if not value <= f0:
+            return None
+        curvature = (value - f0 - d0 * size) / (size * size)  # q(t) = f0 + d0·t + c·t²
+        if not curvature > 0.0:
+            return None
+        guess = -d0 / (2.0 * curvature)
+        return guess if math.isfinite(guess) and guess > 0.0 else None

@@ -46,7 +46,8 @@ class Wolfe(StepController):
     or brackets an acceptable step: the trial fails sufficient decrease, does
     not improve on the previous trial, or has φ' ≥ 0. Each new bracketing trial
     is the minimiser of the cubic through the last two trials, kept in
-    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``. The zoom phase then
+    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``, or the upper end when
+    that minimiser does not lie beyond t (Moré & Thuente's rule). The zoom phase then
     narrows the bracket [t_lo, t_hi], where t_lo is the trial with sufficient
     decrease and the least value so far, with trials at the minimiser of the
     cubic that matches φ and φ' at both ends. The trial stays a tenth of the
@@ -56,7 +57,11 @@ class Wolfe(StepController):
     close to an end it lies). The midpoint is used when two trials shrank the
     bracket by less than a factor 0.66 (the safeguard of Moré & Thuente 1994),
     and values within rounding of φ(t_lo) count as ties, decided by the slope.
-    Every trial evaluates the value and the gradient. A non-finite value (NaN
+    Each trial evaluates the value, and the gradient only when the trial passes
+    the decrease tests (as Alg. 3.5–3.6 do); a rejected end of the bracket without
+    a slope is modelled by the quadratic, and its slope is evaluated only when
+    that quadratic points within the margin of an end twice running. A
+    non-finite value (NaN
     or ±inf in f or ∇f) makes that trial the too-long end of the bracket, and
     the next trial moves 90% of the way back towards the good end.
 
@@ -119,8 +124,8 @@ class Wolfe(StepController):
     >>> step = Wolfe()((f, g), x, -g(x))
     >>> step.status, step.size, step.value
     (Status.accepted, 0.5, 0.0)
-    >>> step.evaluations  # at x, then at the trials t = 1 (too long) and t = 0.5
-    Evaluations(values=3, gradients=3)
+    >>> step.evaluations  # at x; at t = 1 (too long: value only) and at t = 0.5
+    Evaluations(values=3, gradients=2)
     """
 
     _fields = ("c1", "c2", "strong", "initial", "expand", "max_size", "max_evaluations",
@@ -145,10 +150,12 @@ class Wolfe(StepController):
         flat = -self.c2 * origin.slope  # > 0: the curvature bound on φ'(t)
         strong = self.strong
         max_size = self.max_size
-        evaluate = ray.value_and_slope
+        evaluate, complete = ray.value, ray.value_and_slope
         previous = origin
         size = first if first < max_size else max_size
         while True:
+            # Alg. 3.5 evaluates φ first and φ' only where the decrease tests pass: a
+            # rejected trial costs no gradient (the ray completes a cached point).
             point = evaluate(size)
             value = point.value
             # Sufficient decrease in the papers' sum form. Near a minimiser c1·t·φ'(0) can
@@ -158,6 +165,11 @@ class Wolfe(StepController):
             if value > f0 + size * decrease or value >= previous.value:
                 return self._zoom(ray, previous, point)
             slope = point.slope
+            if slope is None:
+                point = complete(size)
+                slope = point.slope
+                if slope is None:  # a non-finite gradient: the trial counts as too long
+                    return self._zoom(ray, previous, point)
             if slope >= -flat and (slope <= flat or not strong):
                 return point, Status.accepted
             if slope >= 0.0:
@@ -176,7 +188,10 @@ class Wolfe(StepController):
         high = size + expand * increment
         model = cubic_from_slopes(previous.size, previous.value, previous.slope,
                                   size, point.value, point.slope)
-        if model is None or model > high:
+        # A model step not beyond t (a cubic that falls without bound ahead, or one
+        # degenerate at rounding level on a concave stretch) takes the upper bound, as
+        # in Moré–Thuente's case 3; clipping it to the lower bound would crawl.
+        if model is None or model <= size or model > high:
             model = high
         elif model < low:
             model = low
@@ -193,11 +208,12 @@ class Wolfe(StepController):
         decrease = self.c1 * origin.slope
         flat = -self.c2 * origin.slope
         strong = self.strong
-        evaluate = ray.value_and_slope
+        evaluate, complete = ray.value, ray.value_and_slope
         floor = ray.rounding_size()
         eps = ray.precision()
         tie = VALUE_TIE * eps
         width_older = width_old = INF
+        pressed = False  # the last trial's quadratic pointed within the margin of an end
         while True:
             a, b = lo.size, hi.size
             width = abs(b - a)
@@ -205,17 +221,32 @@ class Wolfe(StepController):
                 return ray.best, Status.interval_too_small
             if width >= BISECT_UNLESS_SHRUNK * width_older:
                 size = 0.5 * (a + b)
-            elif hi.value < INF:
-                size = _zoom_trial(a, lo.value, lo.slope, b, hi.value, hi.slope)
             else:
-                size = a + NON_FINITE_SHRINK * (b - a)
+                if hi.slope is None and hi.value < INF:
+                    near_end = _quadratic_near_an_end(a, lo.value, lo.slope, b, hi.value)
+                    if near_end and pressed and hi is ray.last:
+                        # The quadratic alone was clipped to the margin twice running:
+                        # φ'(b), one gradient at the cached point, lets the cubic
+                        # confirm a minimiser close to an end instead of creeping.
+                        hi = complete(b)
+                    pressed = near_end
+                if hi.value < INF:  # hi.slope is None where φ' was not needed
+                    size = _zoom_trial(a, lo.value, lo.slope, b, hi.value, hi.slope)
+                else:
+                    size = a + NON_FINITE_SHRINK * (b - a)
             width_older, width_old = width_old, width
-            point = evaluate(size)
+            point = evaluate(size)  # φ' only where the decrease tests pass (Alg. 3.6)
             value = point.value
             if value > f0 + size * decrease or value - lo.value > tie * abs(value):
                 hi = point
                 continue
             slope = point.slope
+            if slope is None:
+                point = complete(size)
+                slope = point.slope
+                if slope is None:  # a non-finite gradient: too long
+                    hi = point
+                    continue
             if slope >= -flat and (slope <= flat or not strong):
                 return point, Status.accepted
             if slope * (b - a) >= 0.0:
@@ -223,15 +254,26 @@ class Wolfe(StepController):
             lo = point
 
 
-def _zoom_trial(a: float, fa: float, da: float, b: float, fb: float, db: float) -> float:
+def _quadratic_near_an_end(a: float, fa: float, da: float, b: float, fb: float) -> bool:
+    """The quadratic's minimiser is missing or lies within `MARGIN` of an end of (a, b)."""
+    quadratic = quadratic_from_slope(a, fa, da, b, fb)
+    if quadratic is None:
+        return True
+    return not MARGIN <= (quadratic - a) / (b - a) <= 1.0 - MARGIN
+
+
+def _zoom_trial(a: float, fa: float, da: float, b: float, fb: float,
+                db: float | None) -> float:
     """A trial strictly inside the bracket (a, b): cubic, else quadratic, else the midpoint.
+
+    Without φ'(b) (`db` None) the quadratic through fa, da, fb is the model.
 
     The trial is kept `MARGIN` of the bracket away from either end unless the cubic
     and the quadratic agree, in which case the model is trusted up to `TRUSTED_MARGIN`
     (a minimiser far closer to one end than the bracket is wide is then found in one
     trial, as on ill-conditioned quadratics).
     """
-    cubic = cubic_from_slopes(a, fa, da, b, fb, db)
+    cubic = None if db is None else cubic_from_slopes(a, fa, da, b, fb, db)
     quadratic = quadratic_from_slope(a, fa, da, b, fb)
     if cubic is None:
         if quadratic is None:
