@@ -7,18 +7,14 @@ rule of the textbook analysis of gradient descent on an L-smooth function:
     rate = 1 / L̂,
 
 where L̂ estimates the largest curvature |λ_max(∇²f)| at the problem's standard
-start by `POWER_ITERATIONS` steps of the power iteration on finite-difference
-Hessian–vector products, ∇²f(x)·v ≈ (∇f(x + h·v) − ∇f(x)) / h. The estimate
-costs ``POWER_ITERATIONS + 1`` gradient evaluations per problem; they are spent
-while the study is built, not counted in any run. Runs from other starts reuse
+start with `linestep.estimate_smoothness` (Lanczos on finite-difference
+Hessian–vector products; at most a few dozen gradient evaluations per problem,
+spent while the study is built and not counted in any run). Runs from other starts reuse
 the standard start's rate (the rule is stated per problem, not per start).
 
 On a non-quadratic problem the curvature along the way can exceed L̂, so
 ``Fixed(1/L)`` may still diverge there: the study shows it, and
 ``Fallback(Fixed(1/L), Armijo())`` shows the safety net recovering.
-
-When `linestep.advice` lands, its ``estimate_smoothness`` (Lanczos on the same
-products) can replace `lipschitz_at_start` here: the builders only need L̂.
 
 Examples
 --------
@@ -45,18 +41,12 @@ from linestep.bench.problems import Problem
 
 __all__ = ["fallback_at_smoothness", "fixed_at_smoothness", "lipschitz_at_start"]
 
-# Power iterations of the curvature estimate: each costs one gradient evaluation.
-POWER_ITERATIONS = 30
-# Finite-difference step, relative to max(1, ‖x‖∞): about √ε balances truncation
-# and rounding errors of the forward difference.
-DIFFERENCE_STEP = math.sqrt(np.finfo(float).eps)
-
 # Estimates already made in this process, by (name, dimension, start).
 _CACHE: dict[tuple, float | None] = {}
 
 
 def lipschitz_at_start(problem: Problem) -> float | None:
-    """L̂ = |λ_max(∇²f(x_s))| at the standard start x_s, by the power iteration.
+    """L̂ = |λ_max(∇²f(x_s))| at the standard start x_s, by `estimate_smoothness`.
 
     None when a gradient along the way is not finite or the curvature is zero
     (no fixed rate follows from the rule then).
@@ -64,28 +54,19 @@ def lipschitz_at_start(problem: Problem) -> float | None:
     x = np.array(problem.start, dtype=float).reshape(-1)
     key = (problem.name, problem.dimension, x.tobytes())
     if key not in _CACHE:
-        _CACHE[key] = _power_iteration(problem, x)
+        _CACHE[key] = _estimate(problem, x)
     return _CACHE[key]
 
 
-def _power_iteration(problem: Problem, x: np.ndarray) -> float | None:
-    def gradient(point: np.ndarray) -> np.ndarray:
-        return np.asarray(problem.gradient(point), dtype=float).reshape(-1)
+def _estimate(problem: Problem, x: np.ndarray) -> float | None:
+    from linestep.advice._smoothness import estimate_smoothness
 
-    rng = np.random.default_rng(zlib.crc32(problem.name.encode("utf-8")))
-    vector = rng.standard_normal(x.size)
-    vector /= np.linalg.norm(vector)
-    step = DIFFERENCE_STEP * max(1.0, float(np.max(np.abs(x))))
     with np.errstate(all="ignore"):
-        base = gradient(x)
-        estimate = None
-        for _ in range(POWER_ITERATIONS):
-            product = (gradient(x + step * vector) - base) / step
-            norm = float(np.linalg.norm(product))
-            if not math.isfinite(norm) or norm == 0.0:
-                return None
-            estimate, vector = norm, product / norm
-    return estimate
+        found = estimate_smoothness((problem.value, problem.gradient), x,
+                                    seed=zlib.crc32(problem.name.encode("utf-8")))
+    lipschitz = found.lipschitz
+    return lipschitz if lipschitz is not None and math.isfinite(lipschitz) and lipschitz > 0 \
+        else None
 
 
 def _fixed(problem: Problem, *, fallback: bool) -> Any:
