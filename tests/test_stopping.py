@@ -461,9 +461,18 @@ def test_plain_callables_combine_on_either_side():
 
 
 def test_a_member_returning_a_non_verdict_is_an_error():
-    combined = GradientNorm() | (lambda progress: True)
-    with pytest.raises(TypeError, match="must return a Verdict or None"):
+    combined = GradientNorm() | (lambda progress: "yes")
+    with pytest.raises(TypeError, match="must return a Verdict, None"):
         combined(snapshot(1))
+
+
+@pytest.mark.parametrize("answer", [True, np.True_])
+def test_a_member_returning_true_stops_with_a_budget_verdict(answer):
+    # Issue 10 item 9: a bool (numpy's too) is an answer; True stops, False goes on.
+    combined = GradientNorm(atol=0.0, rtol=0.0) | (lambda progress: answer)
+    verdict = combined(snapshot(1))
+    assert verdict.kind is Kind.budget and "returned True" in verdict.reason
+    assert (GradientNorm(atol=0.0, rtol=0.0) | (lambda progress: np.False_))(snapshot(1)) is None
 
 
 def test_or_with_a_non_callable_is_a_type_error():

@@ -129,7 +129,8 @@ class StepController:
             # A finite x·x, g·d and f prove x, g, d and f finite (`_array.all_finite`'s
             # test, inlined; `_check_slope`). (len, unlike shape, builds no tuple.)
             slope = float(gradient.dot(direction))
-            value = float(value)
+            if value.__class__ is not float:  # never float(): it would parse "5.0"
+                value = _validate.finite_scalar("value", value)
             if isfinite(slope) and isfinite(value) and isfinite(x.dot(x)):
                 origin = Point(0.0, x, value, gradient, slope)
             else:

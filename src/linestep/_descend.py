@@ -16,6 +16,7 @@ from linestep._step import Evaluations, Step
 from linestep.directions import SteepestDescent
 from linestep.searches.armijo import Armijo
 from linestep.stopping import Kind, Progress, Verdict
+from linestep.stopping._base import _as_verdict
 
 __all__ = ["History", "Run", "descend"]
 
@@ -103,7 +104,9 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
         Default: a fresh ``stopping.default()``.
     callback : callable, optional
         Called with the `stopping.Progress` after each iteration; returning True
-        stops the run with a ``budget`` verdict ("The callback asked to stop.").
+        (a numpy boolean too) stops the run with a ``budget`` verdict ("The callback
+        asked to stop."); None or False goes on. Any other return value raises
+        TypeError.
 
     Returns
     -------
@@ -118,7 +121,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     ValueError
         `x0` is not finite, or f or ∇f is not finite at `x0`.
     TypeError
-        The objective has no gradient.
+        The objective has no gradient; `controller`, `direction`, `stop` or
+        `callback` is a class instead of an instance, or not callable; the stopping
+        rule returns something other than a Verdict, None or a bool, or the callback
+        something other than None or a bool.
 
     Examples
     --------
@@ -131,13 +137,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     ('converged', array([ 1., -2.]))
     """
     objective = as_objective(objective)
+    _check_parts(controller, direction, stop, callback)
     controller = Armijo() if controller is None else controller
     direction = SteepestDescent() if direction is None else direction
     stop = stopping.default() if stop is None else stop
-    if not callable(getattr(controller, "reset", None)) or not callable(controller):
-        raise TypeError(f"`controller` must be a linestep controller; got {controller!r}.")
-    if not callable(direction):
-        raise TypeError(f"`direction` must be a direction object; got {direction!r}.")
     for part in (controller, direction, stop):
         reset = getattr(part, "reset", None)
         if callable(reset):
@@ -165,7 +168,7 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     progress = Progress(iteration=0, evaluations=record.last_evaluations, x=x, value=value,
                         gradient=gradient, step=None, start_value=value,
                         start_gradient=gradient, elapsed=0.0)
-    verdict = stop(progress)
+    verdict = _as_verdict(stop(progress), stop, "The stopping rule `stop`")
     iteration = 0
     while verdict is None:
         if not (math.isfinite(value) and _array.all_finite(gradient)):
@@ -198,18 +201,48 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
                             gradient=gradient, step=step, start_value=progress.start_value,
                             start_gradient=progress.start_gradient,
                             elapsed=time.perf_counter() - started)
-        verdict = stop(progress)
+        verdict = _as_verdict(stop(progress), stop, "The stopping rule `stop`")
         if verdict is None and not moved:
             kind = Kind.converged if step.ok else Kind.failed
             reason = step.message if step.ok else (
                 f"The step-size controller could not move from x "
                 f"(status {step.status.value}): {step.message}")
             verdict = Verdict(kind=kind, reason=reason, criterion=repr(controller))
-        if verdict is None and callback is not None and callback(progress) is True:
+        if verdict is None and callback is not None and _asks_to_stop(callback(progress),
+                                                                      callback):
             verdict = Verdict(kind=Kind.budget, reason="The callback asked to stop.",
                               criterion="callback")
     return Run(x=x, value=value, gradient=gradient, verdict=verdict, iterations=iteration,
                evaluations=objective.evaluations - start_evaluations, history=record.freeze())
+
+
+def _check_parts(controller: Any, direction: Any, stop: Any, callback: Any) -> None:
+    """Refuse a class where an instance is due, and anything that cannot be called."""
+    for name, part, example in (("controller", controller, "Armijo()"),
+                                ("direction", direction, "SteepestDescent()"),
+                                ("stop", stop, "stopping.default()"),
+                                ("callback", callback, "a function of the Progress")):
+        if part is None:
+            continue
+        if isinstance(part, type):
+            raise TypeError(f"`{name}` must be an instance, not the class {part.__name__}; "
+                            f"write {part.__name__}() (for example `{name}={example}`).")
+        if not callable(part):
+            raise TypeError(f"`{name}` must be callable, such as {example}; got {part!r}.")
+    if controller is not None and not callable(getattr(controller, "reset", None)):
+        raise TypeError(f"`controller` must be a linestep controller, such as Armijo(); got "
+                        f"{controller!r}, which has no reset() method.")
+
+
+def _asks_to_stop(result: Any, callback: Any) -> bool:
+    """A callback's answer: None or False goes on, True stops; anything else is an error."""
+    if result is None:
+        return False
+    if isinstance(result, (bool, np.bool_)):
+        return bool(result)
+    raise TypeError(f"The `callback` {callback!r} returned {result!r} of type "
+                    f"{type(result).__name__}; it must return None or False to go on, "
+                    "True to stop.")
 
 
 def _merge(first: Step, second: Step) -> Step:
