@@ -84,6 +84,19 @@ _SLOPE_OVERFLOW = (
     "gradient or the direction is far too large: rescale the problem or use a smaller step."
 )
 _STATIONARY = "The gradient at x is zero, so x is stationary; the step is 0."
+_SLOPE_UNDERFLOW = (
+    "The slope gradient·direction underflows to 0 although the direction descends; x is "
+    "unchanged. The gradient or the direction is at the bottom of the float range: x is "
+    "stationary to working precision, or the direction is far too short (rescale it)."
+)
+
+
+def _slope_underflows(gradient: Any, direction: Any) -> bool:
+    """True when g·d rounds to 0 but the scaled product (g/‖g‖∞)·(d/‖d‖∞) is negative."""
+    g_scale, d_scale = _array.max_abs(gradient), _array.max_abs(direction)
+    if not (g_scale > 0.0 and d_scale > 0.0):
+        return False
+    return _array.dot(gradient / g_scale, direction / d_scale) < 0.0
 
 
 class StepController:
@@ -141,7 +154,7 @@ class StepController:
             origin = self._origin(objective, x, direction, value, gradient)
         slope = origin.slope
         if slope is not None and not -math.inf < slope < 0.0:
-            return self._no_search(objective, origin, start_values, start_gradients)
+            return self._no_search(objective, origin, start_values, start_gradients, direction)
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
         try:
@@ -215,13 +228,17 @@ class StepController:
         return Point(0.0, x, value, gradient, slope)
 
     def _no_search(self, objective: Objective, origin: Point, start_values: int,
-                   start_gradients: int) -> Step:
-        """x unchanged without evaluating along the ray: φ'(0) >= 0, or g·d overflowed."""
+                   start_gradients: int, direction: Any = None) -> Step:
+        """x unchanged without evaluating along the ray: φ'(0) >= 0, or g·d over- or
+        underflowed."""
         slope = origin.slope
         if slope == -math.inf or slope != slope:
             status, message = Status.non_finite, _SLOPE_OVERFLOW
         elif _array.max_abs(origin.gradient) == 0.0:
             status, message = Status.accepted, _STATIONARY
+        elif (slope == 0.0 and direction is not None
+              and _slope_underflows(origin.gradient, direction)):
+            status, message = Status.step_too_small, _SLOPE_UNDERFLOW
         elif self.negative_gradient_only:
             raise _validate.not_negative_gradient(type(self).__name__)
         else:

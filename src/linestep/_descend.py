@@ -11,6 +11,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, stopping
+from linestep._controller import _check_gradient
 from linestep._objective import as_objective
 from linestep._step import Evaluations, Step
 from linestep.directions import SteepestDescent
@@ -193,7 +194,8 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
         if moved:
             x = step.x
             value = step.value
-            gradient = step.gradient if step.gradient is not None else objective.gradient(x)
+            gradient = (step.gradient if step.gradient is not None
+                        else _check_gradient(objective.gradient(x), x, supplied=False))
         iteration += 1
         evaluations = objective.evaluations - start_evaluations
         record.add(value, gradient, step.size, evaluations, restarted, step.status.value)

@@ -137,7 +137,10 @@ def negative_gradient_multiple(owner: str, gradient: Any, direction: Any, slope:
     """
     from linestep import _array
 
-    scale = -slope / _array.dot(gradient, gradient)
+    # Scaled by ‖gradient‖∞ so that gradient·gradient cannot underflow to 0.
+    size = _array.max_abs(gradient)
+    unit = gradient / size
+    scale = -(slope / size) / (_array.dot(unit, unit) * size)
     if scale > 0.0:
         residual = _array.norm2(direction + scale * gradient)
         if residual <= rtol * _array.norm2(direction):
