@@ -24,6 +24,7 @@ implementers:
 from __future__ import annotations
 
 import math
+import warnings
 from math import isfinite
 from typing import Any
 
@@ -132,6 +133,8 @@ class StepController:
                  gradient: Any = None) -> Step:
         if objective.__class__ is not Objective:
             objective = as_objective(objective)
+        if objective is not self._objective:
+            self._adopt(objective, x)
         start_values, start_gradients = objective.values, objective.gradients
         if (value is not None
                 and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
@@ -168,7 +171,32 @@ class StepController:
     def reset(self) -> None:
         """Forget everything carried between calls."""
         self._memory = _initial.Memory()
+        self._objective = self._problem = None
         self._reset_state()
+
+    #: The objective of the last call and the fingerprint of the problem being served.
+    _objective: Objective | None = None
+    _problem: tuple | None = None
+
+    def _adopt(self, objective: Objective, x: Any) -> None:
+        """Note the problem of a call with a new objective; reset on a different one.
+
+        One instance serves one loop: state from another problem (a Polyak level, a
+        Barzilai–Borwein pair, a previous step) would give wrong steps. The fingerprint
+        is the code of the user's callables and the shape and dtype of x, so a loop that
+        wraps each mini-batch's loss in a new closure of the same function keeps its
+        state.
+        """
+        problem = (_code(objective._fun), _code(objective._grad), objective.fused,
+                   getattr(x, "shape", None), str(getattr(x, "dtype", "")))
+        if self._problem is not None and problem != self._problem:
+            self.reset()
+            warnings.warn(
+                f"{type(self).__name__} was called on a different problem (another "
+                "objective function or another shape of x) without reset(); its state "
+                "was reset. One instance serves one loop: call reset() or build a new "
+                "controller for each problem.", RuntimeWarning, stacklevel=3)
+        self._objective, self._problem = objective, problem
 
     # -- hooks -------------------------------------------------------------------
     def _search(self, ray: Ray, first: float) -> tuple:
@@ -263,6 +291,17 @@ class StepController:
         return _step(point, objective.values - start_values,
                      objective.gradients - start_gradients, status, message,
                      None if trials is None else tuple(trials))
+
+
+def _code(fun: Any) -> Any:
+    """What identifies a user callable across closures: its code, else its class."""
+    while True:
+        inner = getattr(fun, "func", None) or getattr(fun, "__func__", None)  # partial, method
+        if inner is None:
+            break
+        fun = inner
+    code = getattr(fun, "__code__", None)
+    return code if code is not None else (type(fun) if fun is not None else None)
 
 
 def _settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Status]:

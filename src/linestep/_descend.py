@@ -13,7 +13,7 @@ import numpy as np
 from linestep import _array, stopping
 from linestep._controller import _check_gradient
 from linestep._objective import as_objective
-from linestep._step import Evaluations, Step
+from linestep._step import Evaluations, Status, Step
 from linestep.directions import SteepestDescent
 from linestep.searches.armijo import Armijo
 from linestep.stopping import Kind, Progress, Verdict
@@ -141,8 +141,7 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     _check_parts(controller, direction, stop, callback)
     controller = Armijo() if controller is None else controller
     direction = SteepestDescent() if direction is None else direction
-    stop = stopping.default() if stop is None else stop
-    for part in (controller, direction, stop):
+    for part in (controller, direction):
         reset = getattr(part, "reset", None)
         if callable(reset):
             reset()
@@ -150,6 +149,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     x = _array.as_point("x0", x0)
     if not _array.all_finite(x):
         raise ValueError("`x0` must be finite; it contains NaN or infinity.")
+    stop = stopping.default(dtype=getattr(x, "dtype", None)) if stop is None else stop
+    reset = getattr(stop, "reset", None)
+    if callable(reset):
+        reset()
     start_evaluations = objective.evaluations
     value, gradient = objective.value_and_gradient(x)
     if not math.isfinite(value):
@@ -209,6 +212,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
             reason = step.message if step.ok else (
                 f"The step-size controller could not move from x "
                 f"(status {step.status.value}): {step.message}")
+            if not step.ok and step.status in _ROUNDING_STATUSES:
+                precise = _at_working_precision(x, value, gradient)
+                if precise is not None:
+                    kind, reason = Kind.converged, precise
             verdict = Verdict(kind=kind, reason=reason, criterion=repr(controller))
         if verdict is None and callback is not None and _asks_to_stop(callback(progress),
                                                                       callback):
@@ -216,6 +223,37 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
                               criterion="callback")
     return Run(x=x, value=value, gradient=gradient, verdict=verdict, iterations=iteration,
                evaluations=objective.evaluations - start_evaluations, history=record.freeze())
+
+
+_ROUNDING_STATUSES = (Status.step_too_small, Status.interval_too_small)
+
+
+def _at_working_precision(x: Any, value: float, gradient: Any) -> str | None:
+    """The converged reason when ∇f is as small as rounding in f allows, else None.
+
+    A search that cannot move because its trial step fell below rounding has met
+    the limit of the dtype, not a failure, when ‖∇f‖∞ <= ε^(1/3)·(1 + |f|), ε the
+    machine epsilon of x's dtype: the gradient test of Gill, Murray & Wright,
+    *Practical Optimization* (1981, §8.2.3.2, recalled from memory), with the
+    accuracy of f taken as ε.
+    """
+    dtype = getattr(x, "dtype", None)
+    try:
+        epsilon = float(np.finfo(dtype).eps) if dtype is not None else _EPS64
+        name = np.dtype(dtype).name if dtype is not None else "float64"
+    except (TypeError, ValueError):
+        epsilon, name = _EPS64, str(dtype)
+    size = _array.max_abs(gradient)
+    level = epsilon ** (1.0 / 3.0) * (1.0 + abs(value))
+    if not size <= level:
+        return None
+    return (f"Converged at working precision ({name}): the trial step fell below "
+            f"rounding level with the gradient max-norm {size:.3g} at or below "
+            f"eps^(1/3)*(1 + |f|) = {level:.3g}, the smallest gradient rounding in f "
+            f"lets a search resolve (eps = {epsilon:.3g}).")
+
+
+_EPS64 = float(np.finfo(np.float64).eps)
 
 
 def _check_parts(controller: Any, direction: Any, stop: Any, callback: Any) -> None:
