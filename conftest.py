@@ -1,7 +1,7 @@
 """Collection rules for the whole repository (tests, doctests in src/ and docs/).
 
 Doctests of `linestep.jax` need JAX, an optional extra: without it, its modules
-are not collected (the tests under tests/linestep_jax skip with their reason), so
+and docs/jax.md are not collected (the tests under tests/linestep_jax skip with their reason), so
 ``pip install -e ".[test]" && python -m pytest`` passes without the extra.
 """
 
@@ -20,4 +20,4 @@ def _installed(name: str) -> bool:
 
 collect_ignore_glob: list[str] = []
 if not _installed("jax"):
-    collect_ignore_glob.append("src/linestep/jax/*.py")
+    collect_ignore_glob += ["src/linestep/jax/*.py", "docs/jax.md"]

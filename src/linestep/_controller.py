@@ -19,6 +19,11 @@ implementers:
 5. State carried between calls lives on the instance and `_reset_state()`
    clears it; the base keeps a `Memory` of the last accepted step for the
    initial-step strategies.
+
+One instance serves one loop: when a call brings another problem (the code of
+the objective's callables, or x's shape or dtype, differs from the first call
+since the last reset) the base resets the state with a RuntimeWarning.
+Instances are not thread-safe; each thread needs its own.
 """
 
 from __future__ import annotations

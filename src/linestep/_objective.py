@@ -126,7 +126,7 @@ _NO_GRADIENT = (
 
 
 def _name(fun: Any) -> str:
-    return getattr(fun, "__qualname__", None) or repr(fun)
+    return getattr(fun, "__name__", None) or repr(fun)
 
 
 def _value(value: Any, fun: Any) -> float:

@@ -106,6 +106,8 @@ def test_a_bad_objective_spec_is_named(tmp_path: Path, capsys) -> None:
 
 
 def test_an_incompatible_results_file_is_a_clear_error(tmp_path: Path, capsys) -> None:
+    pytest.importorskip("sklearn", reason="the default study's logistic problem needs "
+                        "scikit-learn (linestep[bench])")
     (tmp_path / "results.sqlite").write_text("not a database\n" * 10)
     assert cli.main(["bench", "--controllers", "armijo", "--out", str(tmp_path)]) == 2
     assert "is not a linestep results file" in capsys.readouterr().err
@@ -125,6 +127,8 @@ def test_help_has_examples(capsys) -> None:
 
 
 def test_the_default_controllers_cover_every_family() -> None:
+    pytest.importorskip("sklearn", reason="the default study's logistic problem needs "
+                        "scikit-learn (linestep[bench])")
     args = cli.build_parser().parse_args(["bench", "--directions", "steepest"])
     study = cli.build_study(args, lambda text: None)
     labels = {label or type(c).__name__ for label, c in study.controllers}
