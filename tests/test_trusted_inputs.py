@@ -221,7 +221,8 @@ def test_a_list_gradient_at_a_trial_point_becomes_an_array():
     (1.0 + 2.0j, TypeError, "complex"),
     (10**400, ValueError, "401-digit integer"),
     (True, TypeError, "True"),
-], ids=["None", "str", "array", "one-entry array", "complex", "10**400", "bool"])
+    (np.True_, TypeError, "True"),
+], ids=["None", "str", "array", "one-entry array", "complex", "10**400", "bool", "numpy bool"])
 def test_an_objective_returning_a_non_scalar_is_a_clear_error(returned, error, shown):
     def named_loss(x):
         return returned

@@ -108,9 +108,10 @@ def real_scalar(what: str, value: Any, fix: str) -> float:
     if value.__class__ is float:
         return value
     problem = None
-    if value is None or isinstance(value, (str, bytes, bool)) or value.__class__.__name__ == "bool_":
+    kind = getattr(getattr(value, "dtype", None), "kind", "")  # numpy and JAX scalars
+    if value is None or isinstance(value, (str, bytes, bool)) or kind == "b":
         problem = f"{value!r} ({type(value).__name__})"
-    elif isinstance(value, complex) or getattr(getattr(value, "dtype", None), "kind", "") == "c":
+    elif isinstance(value, complex) or kind == "c":
         problem = f"the complex number {value!r}"
     elif getattr(value, "shape", ()) != ():
         problem = f"an array of shape {tuple(value.shape)}"

@@ -11,9 +11,8 @@ from __future__ import annotations
 
 from typing import Any
 
-import jax.numpy as jnp
-
 import jax
+import jax.numpy as jnp
 
 
 def check_function(fun: Any) -> None:
@@ -75,9 +74,10 @@ def check_state(state: Any, kind: type, x: Any, *, returned_by: str) -> Any:
     return structure
 
 
-# Fields of a method's memory that hold copies of x (or of a gradient), by how many
-# leading axes they add to each leaf (the L-BFGS ring buffers add the memory axis).
-_COPIES_OF_X = {"x": 0, "gradient": 0, "previous_x": 0, "previous_gradient": 0, "s": 1, "y": 1}
+# Fields of a method's memory that hold copies of x or of a gradient (the
+# Barzilai–Borwein pair), by how many leading axes they add to each leaf. The L-BFGS
+# ring buffers have their own check, in `propose`.
+_COPIES_OF_X = {"x": 0, "gradient": 0}
 
 
 def _check_state_shapes(method: Any, x: Any) -> None:

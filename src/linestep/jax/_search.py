@@ -29,9 +29,9 @@ from __future__ import annotations
 
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep.jax import _checks, _initial, _tree
 from linestep.jax._line import INF, Line, Point, scalar_value, value_and_gradient
 from linestep.jax._records import CompiledStep, Rebuildable, SearchState, StatusCode
