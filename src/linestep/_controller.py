@@ -300,7 +300,7 @@ class StepController:
 
 def _code(fun: Any) -> Any:
     """What identifies a user callable across closures: its code, else its class."""
-    while True:
+    for _ in range(8):  # bounded: a `func` attribute may point back to its owner
         inner = getattr(fun, "func", None) or getattr(fun, "__func__", None)  # partial, method
         if inner is None:
             break

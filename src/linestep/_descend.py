@@ -102,7 +102,8 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     direction : direction object, optional
         Default: a fresh ``SteepestDescent()``.
     stop : criterion, optional
-        Default: a fresh ``stopping.default()``.
+        Default: a fresh ``stopping.default(dtype=x0.dtype)``, whose tolerances
+        follow the precision of x0.
     callback : callable, optional
         Called with the `stopping.Progress` after each iteration; returning True
         (a numpy boolean too) stops the run with a ``budget`` verdict ("The callback
@@ -115,7 +116,11 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
         The final point and why the run stopped. When the controller cannot move
         (even after restarting the direction as steepest descent), the run stops
         with a ``failed`` verdict that quotes the controller's message; x is then
-        the last point reached, never a worse one.
+        the last point reached, never a worse one. When it cannot move because its
+        trial step fell below rounding (``step_too_small``, ``interval_too_small``)
+        at a gradient with ‖∇f‖∞ <= eps^(1/3)·(1 + |f|), eps the machine epsilon of
+        x's dtype, the verdict is ``converged`` "at working precision"
+        (docs/stopping.md, "Precision").
 
     Raises
     ------
