@@ -211,7 +211,9 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
                             gradient=gradient, step=step, start_value=progress.start_value,
                             start_gradient=progress.start_gradient,
                             elapsed=time.perf_counter() - started)
-        verdict = _as_verdict(stop(progress), stop, "The stopping rule `stop`")
+        verdict = stop(progress)
+        if verdict is not None and verdict.__class__ is not Verdict:  # bools, wrong types
+            verdict = _as_verdict(verdict, stop, "The stopping rule `stop`")
         if verdict is None and not moved:
             kind = Kind.converged if step.ok else Kind.failed
             reason = step.message if step.ok else (
