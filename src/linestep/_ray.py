@@ -31,6 +31,7 @@ INF = math.inf
 # max(1, |f(x)|), before `check_origin_value` calls it wrong (sums reordered, BLAS).
 VALUE_RTOL = 1e-6
 _NDARRAY = np.ndarray
+_FLOAT64, _FLOAT32 = np.float64, np.float32
 
 
 class BudgetSpent(Exception):
@@ -140,12 +141,16 @@ class Ray:
         direction = self.direction
         value, gradient = objective.value_and_gradient(x_new)
         if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
-            if (gradient.__class__ is _NDARRAY and gradient.dtype is direction.dtype
-                    and gradient.ndim == 1 == direction.ndim):
+            product = None
+            if gradient.__class__ is _NDARRAY and gradient.ndim == 1:
                 try:
-                    slope = float(gradient.dot(direction))
+                    product = gradient.dot(direction)
                 except ValueError:  # 1-D of another length: numpy refuses the product
                     raise self._wrong_gradient(gradient, size) from None
+            # A real 1-D gradient against a 1-D direction gives a numpy float scalar; any
+            # other result (an array, a complex scalar) means another shape or dtype.
+            if product.__class__ is _FLOAT64 or product.__class__ is _FLOAT32:
+                slope = float(product)
             else:  # other shapes, dtypes and array types: checked, never broadcast
                 gradient = self._checked(gradient, size)
                 slope = _array.dot(gradient, direction)
