@@ -84,6 +84,14 @@ def refuses(kind, error, text, **options):
 
 
 CONSTRUCTION = [
+    # Issue 10 item 13: a rule as BarzilaiBorwein's globalization would drop the BB step.
+    *[case(lambda g=g: BarzilaiBorwein(globalize=g), TypeError, "globalize",
+           f"BarzilaiBorwein globalize={type(g).__name__ if not isinstance(g, type) else g}")
+      for g in (Fixed(0.1), Polyak(f_min=0.0), Schedule.exponential(1.0, rate=0.9),
+                Fallback(Fixed(0.1), Armijo()), BarzilaiBorwein(), Armijo, "armijo")],
+    # Issue 10 item 11.
+    case(lambda: Objective(square, fused="no"), TypeError, "fused", "Objective fused='no'"),
+    case(lambda: Objective(square, fused=1), TypeError, "fused", "Objective fused=1"),
     # Armijo
     *[case(lambda v=v: Armijo(c1=v), ValueError, "c1", f"Armijo c1={v}")
       for v in (0, 1, -1, math.nan, 1.5)],
@@ -480,6 +488,17 @@ CALLS_ANY = {
                          "gradient"),
     "gradient wrong shape": (PAIR, X, D, {"gradient": np.ones(3)}, ValueError, "gradient"),
     "objective not callable": (3.0, X, D, {}, TypeError, "objective"),
+    # Issue 10 item 11: the fast path (1-D float arrays, value and gradient given) too.
+    "value a string, fast path": (PAIR, X, D, {"value": "25.0", "gradient": 2 * X}, TypeError,
+                                  "value"),
+    "value a one-entry array, fast path": (PAIR, X, D, {"value": np.array([25.0]),
+                                                        "gradient": 2 * X}, TypeError, "value"),
+    "value complex": (PAIR, X, D, {"value": 25.0 + 1j}, TypeError, "value"),
+    "value True": (PAIR, X, D, {"value": True}, TypeError, "value"),
+    "x complex": (PAIR, X.astype(complex), D, {}, TypeError, "x"),
+    "direction complex": (PAIR, X, D.astype(complex), {}, TypeError, "direction"),
+    "gradient complex": (PAIR, X, D, {"gradient": (2 * X).astype(complex)}, TypeError,
+                         "gradient"),
 }
 
 CALLS_SEARCH = {
@@ -535,6 +554,25 @@ DESCEND = [
          "controller='armijo'"),
     case(lambda: descend(PAIR, X, direction=np.ones(2)), TypeError, "direction",
          "direction array"),
+    # Issue 10 item 12: classes and non-callables are refused before any evaluation.
+    says(lambda: descend(PAIR, X, controller=Armijo), TypeError,
+         "`controller` must be an instance, not the class Armijo; write Armijo()",
+         "controller=Armijo (the class)"),
+    says(lambda: descend(PAIR, X, direction=LBFGS), TypeError,
+         "`direction` must be an instance, not the class LBFGS; write LBFGS()",
+         "direction=LBFGS (the class)"),
+    says(lambda: descend(PAIR, X, stop=GradientNorm), TypeError,
+         "`stop` must be an instance, not the class GradientNorm", "stop=GradientNorm (class)"),
+    case(lambda: descend(PAIR, X, stop=5), TypeError, "stop", "stop=5"),
+    case(lambda: descend(PAIR, X, callback=5), TypeError, "callback", "callback=5"),
+    case(lambda: descend(PAIR, X, controller=lambda *a, **k: None), TypeError, "controller",
+         "controller without reset()"),
+    # Issue 10 item 9: answers other than a Verdict, None or a bool.
+    case(lambda: descend(PAIR, X, stop=lambda progress: "stop"), TypeError, "stop",
+         "stop returns a string"),
+    case(lambda: descend(PAIR, X, stop=MaxIterations(5), callback=lambda progress: 1),
+         TypeError, "callback", "callback returns 1"),
+    case(lambda: descend(PAIR, X.astype(complex)), TypeError, "x0", "complex x0"),
 ]
 
 

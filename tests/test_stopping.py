@@ -369,9 +369,26 @@ def test_stall_fires_after_n_iterations_without_improvement():
     assert first_firing(verdicts) == 4
     assert verdicts[4].kind is Kind.failed
     assert verdicts[4].reason == (
-        "The best value 4 (iteration 1) has not improved for 3 iterations; check the "
-        "direction and step controller, or loosen the convergence tolerances to stop earlier."
+        "The best value 4 (iteration 1) has not improved for 3 iterations; the value is now "
+        "4, 0 above it, and did not keep rising. x may already be as good as this precision "
+        "allows: loosen the convergence tolerances to stop earlier, or check the gradient, "
+        "the direction and the step controller."
     )
+
+
+def test_stall_at_rounding_noise_does_not_say_the_values_keep_rising():
+    # Issue 10 item 8: a run stalled at its optimum, with values jittering at rounding
+    # level (invented numbers, 1 ulp apart), ends on a last value just above the best.
+    best = 2.0
+    values = [3.0, best] + [best + (k % 2) * 4.4e-16 for k in range(1, 6)]
+    verdicts = feed(Stall(iterations=5), [snapshot(k, value=v) for k, v in enumerate(values)])
+    reason = verdicts[-1].reason
+    assert "keep rising" in reason and "did not keep rising" in reason
+    assert "step is probably too large" not in reason
+    # Values that climb in every idle iteration still get the too-large advice.
+    climbing = [3.0, best, 2.5, 3.0, 3.5, 4.0, 4.5]
+    verdicts = feed(Stall(iterations=5), [snapshot(k, value=v) for k, v in enumerate(climbing)])
+    assert "if the values keep rising, the step is probably too large" in verdicts[-1].reason
 
 
 def test_stall_improvement_must_exceed_the_threshold():
@@ -461,9 +478,18 @@ def test_plain_callables_combine_on_either_side():
 
 
 def test_a_member_returning_a_non_verdict_is_an_error():
-    combined = GradientNorm() | (lambda progress: True)
-    with pytest.raises(TypeError, match="must return a Verdict or None"):
+    combined = GradientNorm() | (lambda progress: "yes")
+    with pytest.raises(TypeError, match="must return a Verdict, None"):
         combined(snapshot(1))
+
+
+@pytest.mark.parametrize("answer", [True, np.True_])
+def test_a_member_returning_true_stops_with_a_budget_verdict(answer):
+    # Issue 10 item 9: a bool (numpy's too) is an answer; True stops, False goes on.
+    combined = GradientNorm(atol=0.0, rtol=0.0) | (lambda progress: answer)
+    verdict = combined(snapshot(1))
+    assert verdict.kind is Kind.budget and "returned True" in verdict.reason
+    assert (GradientNorm(atol=0.0, rtol=0.0) | (lambda progress: np.False_))(snapshot(1)) is None
 
 
 def test_or_with_a_non_callable_is_a_type_error():

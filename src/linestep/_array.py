@@ -13,7 +13,11 @@ from typing import Any
 
 import numpy as np
 
-_FLOAT_KINDS = "fc"
+_FLOAT_KINDS = "f"
+_COMPLEX_FIX = (
+    "linestep minimises real functions of real variables: split a complex variable "
+    "into its real and imaginary parts, e.g. np.concatenate([z.real, z.imag])."
+)
 
 
 def namespace(x: Any) -> Any:
@@ -38,7 +42,8 @@ def as_point(name: str, x: Any) -> Any:
         if x.dtype.kind in _FLOAT_KINDS:
             return x
         if x.dtype.kind not in "iub":
-            raise TypeError(f"`{name}` must hold real numbers; got dtype {x.dtype}.")
+            fix = f" {_COMPLEX_FIX}" if x.dtype.kind == "c" else ""
+            raise TypeError(f"`{name}` must hold real numbers; got dtype {x.dtype}.{fix}")
         return x.astype(np.float64)
     if hasattr(x, "__array_namespace__"):
         if _is_traced(x):
@@ -49,7 +54,10 @@ def as_point(name: str, x: Any) -> Any:
                 "the compiled searches of linestep.jax (e.g. linestep.jax.armijo())."
             )
         xp = x.__array_namespace__()
-        if not xp.isdtype(x.dtype, ("real floating", "complex floating")):
+        if xp.isdtype(x.dtype, "complex floating"):
+            raise TypeError(f"`{name}` must hold real numbers; got dtype {x.dtype}. "
+                            f"{_COMPLEX_FIX}")
+        if not xp.isdtype(x.dtype, "real floating"):
             x = xp.astype(x, _default_float(xp))
         return x
     try:
@@ -57,7 +65,8 @@ def as_point(name: str, x: Any) -> Any:
     except (TypeError, ValueError):
         raise TypeError(f"`{name}` must be an array of real numbers; got {x!r}.") from None
     if array.dtype.kind not in _FLOAT_KINDS + "iub":
-        raise TypeError(f"`{name}` must be an array of real numbers; got {x!r}.")
+        fix = f" {_COMPLEX_FIX}" if array.dtype.kind == "c" else ""
+        raise TypeError(f"`{name}` must be an array of real numbers; got {x!r}.{fix}")
     if array.dtype.kind not in _FLOAT_KINDS:
         array = array.astype(np.float64)
     return array

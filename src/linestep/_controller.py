@@ -19,11 +19,17 @@ implementers:
 5. State carried between calls lives on the instance and `_reset_state()`
    clears it; the base keeps a `Memory` of the last accepted step for the
    initial-step strategies.
+
+One instance serves one loop: when a call brings another problem (the code of
+the objective's callables, or x's shape or dtype, differs from the first call
+since the last reset) the base resets the state with a RuntimeWarning.
+Instances are not thread-safe; each thread needs its own.
 """
 
 from __future__ import annotations
 
 import math
+import warnings
 from math import isfinite
 from typing import Any
 
@@ -84,6 +90,19 @@ _SLOPE_OVERFLOW = (
     "gradient or the direction is far too large: rescale the problem or use a smaller step."
 )
 _STATIONARY = "The gradient at x is zero, so x is stationary; the step is 0."
+_SLOPE_UNDERFLOW = (
+    "The slope gradient·direction underflows to 0 although the direction descends; x is "
+    "unchanged. The gradient or the direction is at the bottom of the float range: x is "
+    "stationary to working precision, or the direction is far too short (rescale it)."
+)
+
+
+def _slope_underflows(gradient: Any, direction: Any) -> bool:
+    """True when g·d rounds to 0 but the scaled product (g/‖g‖∞)·(d/‖d‖∞) is negative."""
+    g_scale, d_scale = _array.max_abs(gradient), _array.max_abs(direction)
+    if not (g_scale > 0.0 and d_scale > 0.0):
+        return False
+    return _array.dot(gradient / g_scale, direction / d_scale) < 0.0
 
 
 class StepController:
@@ -119,6 +138,8 @@ class StepController:
                  gradient: Any = None) -> Step:
         if objective.__class__ is not Objective:
             objective = as_objective(objective)
+        if objective is not self._objective:
+            self._adopt(objective, x)
         start_values, start_gradients = objective.values, objective.gradients
         if (value is not None
                 and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
@@ -129,7 +150,8 @@ class StepController:
             # A finite x·x, g·d and f prove x, g, d and f finite (`_array.all_finite`'s
             # test, inlined; `_check_slope`). (len, unlike shape, builds no tuple.)
             slope = float(gradient.dot(direction))
-            value = float(value)
+            if value.__class__ is not float:  # never float(): it would parse "5.0"
+                value = _validate.finite_scalar("value", value)
             if isfinite(slope) and isfinite(value) and isfinite(x.dot(x)):
                 origin = Point(0.0, x, value, gradient, slope)
             else:
@@ -140,7 +162,7 @@ class StepController:
             origin = self._origin(objective, x, direction, value, gradient)
         slope = origin.slope
         if slope is not None and not -math.inf < slope < 0.0:
-            return self._no_search(objective, origin, start_values, start_gradients)
+            return self._no_search(objective, origin, start_values, start_gradients, direction)
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
         try:
@@ -154,7 +176,32 @@ class StepController:
     def reset(self) -> None:
         """Forget everything carried between calls."""
         self._memory = _initial.Memory()
+        self._objective = self._problem = None
         self._reset_state()
+
+    #: The objective of the last call and the fingerprint of the problem being served.
+    _objective: Objective | None = None
+    _problem: tuple | None = None
+
+    def _adopt(self, objective: Objective, x: Any) -> None:
+        """Note the problem of a call with a new objective; reset on a different one.
+
+        One instance serves one loop: state from another problem (a Polyak level, a
+        Barzilai–Borwein pair, a previous step) would give wrong steps. The fingerprint
+        is the code of the user's callables and the shape and dtype of x, so a loop that
+        wraps each mini-batch's loss in a new closure of the same function keeps its
+        state.
+        """
+        problem = (_code(objective._fun), _code(objective._grad), objective.fused,
+                   getattr(x, "shape", None), str(getattr(x, "dtype", "")))
+        if self._problem is not None and problem != self._problem:
+            self.reset()
+            warnings.warn(
+                f"{type(self).__name__} was called on a different problem (another "
+                "objective function or another shape of x) without reset(); its state "
+                "was reset. One instance serves one loop: call reset() or build a new "
+                "controller for each problem.", RuntimeWarning, stacklevel=3)
+        self._objective, self._problem = objective, problem
 
     # -- hooks -------------------------------------------------------------------
     def _search(self, ray: Ray, first: float) -> tuple:
@@ -214,13 +261,17 @@ class StepController:
         return Point(0.0, x, value, gradient, slope)
 
     def _no_search(self, objective: Objective, origin: Point, start_values: int,
-                   start_gradients: int) -> Step:
-        """x unchanged without evaluating along the ray: φ'(0) >= 0, or g·d overflowed."""
+                   start_gradients: int, direction: Any = None) -> Step:
+        """x unchanged without evaluating along the ray: φ'(0) >= 0, or g·d over- or
+        underflowed."""
         slope = origin.slope
         if slope == -math.inf or slope != slope:
             status, message = Status.non_finite, _SLOPE_OVERFLOW
         elif _array.max_abs(origin.gradient) == 0.0:
             status, message = Status.accepted, _STATIONARY
+        elif (slope == 0.0 and direction is not None
+              and _slope_underflows(origin.gradient, direction)):
+            status, message = Status.step_too_small, _SLOPE_UNDERFLOW
         elif self.negative_gradient_only:
             raise _validate.not_negative_gradient(type(self).__name__)
         else:
@@ -245,6 +296,17 @@ class StepController:
         return _step(point, objective.values - start_values,
                      objective.gradients - start_gradients, status, message,
                      None if trials is None else tuple(trials))
+
+
+def _code(fun: Any) -> Any:
+    """What identifies a user callable across closures: its code, else its class."""
+    for _ in range(8):  # bounded: a `func` attribute may point back to its owner
+        inner = getattr(fun, "func", None) or getattr(fun, "__func__", None)  # partial, method
+        if inner is None:
+            break
+        fun = inner
+    code = getattr(fun, "__code__", None)
+    return code if code is not None else (type(fun) if fun is not None else None)
 
 
 def _settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Status]:

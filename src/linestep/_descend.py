@@ -11,11 +11,13 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, stopping
+from linestep._controller import _check_gradient
 from linestep._objective import as_objective
-from linestep._step import Evaluations, Step
+from linestep._step import Evaluations, Status, Step
 from linestep.directions import SteepestDescent
 from linestep.searches.armijo import Armijo
 from linestep.stopping import Kind, Progress, Verdict
+from linestep.stopping._base import _as_verdict
 
 __all__ = ["History", "Run", "descend"]
 
@@ -177,10 +179,13 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     direction : direction object, optional
         Default: a fresh ``SteepestDescent()``.
     stop : criterion, optional
-        Default: a fresh ``stopping.default()``.
+        Default: a fresh ``stopping.default(dtype=x0.dtype)``, whose tolerances
+        follow the precision of x0.
     callback : callable, optional
         Called with the `stopping.Progress` after each iteration; returning True
-        stops the run with a ``budget`` verdict ("The callback asked to stop.").
+        (a numpy boolean too) stops the run with a ``budget`` verdict ("The callback
+        asked to stop."); None or False goes on. Any other return value raises
+        TypeError.
 
     Returns
     -------
@@ -188,14 +193,21 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
         The final point and why the run stopped. When the controller cannot move
         (even after restarting the direction as steepest descent), the run stops
         with a ``failed`` verdict that quotes the controller's message; x is then
-        the last point reached, never a worse one.
+        the last point reached, never a worse one. When it cannot move because its
+        trial step fell below rounding (``step_too_small``, ``interval_too_small``)
+        at a gradient with ‖∇f‖∞ <= eps^(1/3)·(1 + |f|), eps the machine epsilon of
+        x's dtype, the verdict is ``converged`` "at working precision"
+        (docs/stopping.md, "Precision").
 
     Raises
     ------
     ValueError
         `x0` is not finite, or f or ∇f is not finite at `x0`.
     TypeError
-        The objective has no gradient.
+        The objective has no gradient; `controller`, `direction`, `stop` or
+        `callback` is a class instead of an instance, or not callable; the stopping
+        rule returns something other than a Verdict, None or a bool, or the callback
+        something other than None or a bool.
 
     Examples
     --------
@@ -208,14 +220,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     ('converged', array([ 1., -2.]))
     """
     objective = as_objective(objective)
+    _check_parts(controller, direction, stop, callback)
     direction = SteepestDescent() if direction is None else direction
     controller = default_controller(direction) if controller is None else controller
-    stop = stopping.default() if stop is None else stop
-    if not callable(getattr(controller, "reset", None)) or not callable(controller):
-        raise TypeError(f"`controller` must be a linestep controller; got {controller!r}.")
-    if not callable(direction):
-        raise TypeError(f"`direction` must be a direction object; got {direction!r}.")
-    for part in (controller, direction, stop):
+    for part in (controller, direction):
         reset = getattr(part, "reset", None)
         if callable(reset):
             reset()
@@ -223,6 +231,10 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     x = _array.as_point("x0", x0)
     if not _array.all_finite(x):
         raise ValueError("`x0` must be finite; it contains NaN or infinity.")
+    stop = stopping.default(dtype=getattr(x, "dtype", None)) if stop is None else stop
+    reset = getattr(stop, "reset", None)
+    if callable(reset):
+        reset()
     start_evaluations = objective.evaluations
     value, gradient = objective.value_and_gradient(x)
     if not math.isfinite(value):
@@ -242,7 +254,7 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
     progress = Progress(iteration=0, evaluations=record.last_evaluations, x=x, value=value,
                         gradient=gradient, step=None, start_value=value,
                         start_gradient=gradient, elapsed=0.0)
-    verdict = stop(progress)
+    verdict = _as_verdict(stop(progress), stop, "The stopping rule `stop`")
     iteration = 0
     while verdict is None:
         # The recorded ‖∇f‖∞ is finite exactly when every entry of ∇f is.
@@ -268,7 +280,8 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
         if moved:
             x = step.x
             value = step.value
-            gradient = step.gradient if step.gradient is not None else objective.gradient(x)
+            gradient = (step.gradient if step.gradient is not None
+                        else _check_gradient(objective.gradient(x), x, supplied=False))
         iteration += 1
         evaluations = Evaluations(values=objective.values - start_evaluations.values,
                                   gradients=objective.gradients - start_evaluations.gradients)
@@ -278,13 +291,20 @@ def descend(objective: Any, x0: Any, *, controller: Any = None, direction: Any =
                             start_gradient=progress.start_gradient,
                             elapsed=time.perf_counter() - started)
         verdict = stop(progress)
+        if verdict is not None and verdict.__class__ is not Verdict:  # bools, wrong types
+            verdict = _as_verdict(verdict, stop, "The stopping rule `stop`")
         if verdict is None and not moved:
             kind = Kind.converged if step.ok else Kind.failed
             reason = step.message if step.ok else (
                 f"The step-size controller could not move from x "
                 f"(status {step.status.value}): {step.message}")
+            if not step.ok and step.status in _ROUNDING_STATUSES:
+                precise = _at_working_precision(x, value, gradient)
+                if precise is not None:
+                    kind, reason = Kind.converged, precise
             verdict = Verdict(kind=kind, reason=reason, criterion=repr(controller))
-        if verdict is None and callback is not None and callback(progress) is True:
+        if verdict is None and callback is not None and _asks_to_stop(callback(progress),
+                                                                      callback):
             verdict = Verdict(kind=Kind.budget, reason="The callback asked to stop.",
                               criterion="callback")
     return Run(x=x, value=value, gradient=gradient, verdict=verdict, iterations=iteration,
@@ -315,6 +335,66 @@ def default_controller(direction: Any) -> Any:
     if isinstance(direction, SteepestDescent):
         return Armijo(initial=PreviousTrial(growth=DEFAULT_TRIAL_GROWTH, first=ScaledTrial()))
     return Armijo()
+
+
+_ROUNDING_STATUSES = (Status.step_too_small, Status.interval_too_small)
+
+
+def _at_working_precision(x: Any, value: float, gradient: Any) -> str | None:
+    """The converged reason when ∇f is as small as rounding in f allows, else None.
+
+    A search that cannot move because its trial step fell below rounding has met
+    the limit of the dtype, not a failure, when ‖∇f‖∞ <= ε^(1/3)·(1 + |f|), ε the
+    machine epsilon of x's dtype: the gradient test of Gill, Murray & Wright,
+    *Practical Optimization* (1981, §8.2.3.2, recalled from memory), with the
+    accuracy of f taken as ε.
+    """
+    dtype = getattr(x, "dtype", None)
+    try:
+        epsilon = float(np.finfo(dtype).eps) if dtype is not None else _EPS64
+        name = np.dtype(dtype).name if dtype is not None else "float64"
+    except (TypeError, ValueError):
+        epsilon, name = _EPS64, str(dtype)
+    size = _array.max_abs(gradient)
+    level = epsilon ** (1.0 / 3.0) * (1.0 + abs(value))
+    if not size <= level:
+        return None
+    return (f"Converged at working precision ({name}): the trial step fell below "
+            f"rounding level with the gradient max-norm {size:.3g} at or below "
+            f"eps^(1/3)*(1 + |f|) = {level:.3g}, the smallest gradient rounding in f "
+            f"lets a search resolve (eps = {epsilon:.3g}).")
+
+
+_EPS64 = float(np.finfo(np.float64).eps)
+
+
+def _check_parts(controller: Any, direction: Any, stop: Any, callback: Any) -> None:
+    """Refuse a class where an instance is due, and anything that cannot be called."""
+    for name, part, example in (("controller", controller, "Armijo()"),
+                                ("direction", direction, "SteepestDescent()"),
+                                ("stop", stop, "stopping.default()"),
+                                ("callback", callback, "a function of the Progress")):
+        if part is None:
+            continue
+        if isinstance(part, type):
+            raise TypeError(f"`{name}` must be an instance, not the class {part.__name__}; "
+                            f"write {part.__name__}() (for example `{name}={example}`).")
+        if not callable(part):
+            raise TypeError(f"`{name}` must be callable, such as {example}; got {part!r}.")
+    if controller is not None and not callable(getattr(controller, "reset", None)):
+        raise TypeError(f"`controller` must be a linestep controller, such as Armijo(); got "
+                        f"{controller!r}, which has no reset() method.")
+
+
+def _asks_to_stop(result: Any, callback: Any) -> bool:
+    """A callback's answer: None or False goes on, True stops; anything else is an error."""
+    if result is None:
+        return False
+    if isinstance(result, (bool, np.bool_)):
+        return bool(result)
+    raise TypeError(f"The `callback` {callback!r} returned {result!r} of type "
+                    f"{type(result).__name__}; it must return None or False to go on, "
+                    "True to stop.")
 
 
 def _merge(first: Step, second: Step) -> Step:

@@ -75,6 +75,8 @@ def cubic_backtrack(f0: float, d0: float, a: float, fa: float, b: float,
     ra = fa - f0 - d0 * a
     rb = fb - f0 - d0 * b
     denominator = a * a * b * b * (b - a)
+    if denominator == 0.0 or not math.isfinite(denominator):
+        return None  # a²b² under- or overflowed: no usable cubic, the caller bisects
     c3 = (a * a * rb - b * b * ra) / denominator
     c2 = (-a * a * a * rb + b * b * b * ra) / denominator
     if c3 == 0.0:

@@ -5,6 +5,9 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+import numpy as np
+
+from linestep import _validate
 from linestep._step import Evaluations
 
 __all__ = ["Objective", "as_objective"]
@@ -49,6 +52,8 @@ class Objective:
             raise TypeError(f"`fun` must be callable; got {fun!r}.")
         if grad is not None and not callable(grad):
             raise TypeError(f"`grad` must be callable or None; got {grad!r}.")
+        if not isinstance(fused, (bool, np.bool_)):
+            raise TypeError(f"`fused` must be True or False; got {fused!r}.")
         if fused and grad is not None:
             raise ValueError(
                 "`grad` must be None when `fused=True`: the fused `fun` already returns "
@@ -80,7 +85,8 @@ class Objective:
         if self.fused:
             return self.value_and_gradient(x)[0]
         self.values += 1
-        return float(self._fun(x))
+        value = self._fun(x)
+        return value if value.__class__ is float else _value(value, self._fun)
 
     def gradient(self, x: Any) -> Any:
         """∇f(x)."""
@@ -96,12 +102,17 @@ class Objective:
         if self.fused:
             self.values += 1
             self.gradients += 1
-            value, gradient = self._fun(x)
-            return float(value), gradient
+            pair = self._fun(x)
+            if pair.__class__ is not tuple or len(pair) != 2:
+                pair = _pair(pair, self._fun)
+            value, gradient = pair
+            return (value if value.__class__ is float else _value(value, self._fun)), gradient
         if self._grad is None:
             raise TypeError(_NO_GRADIENT)
         self.values += 1
-        value = float(self._fun(x))
+        value = self._fun(x)
+        if value.__class__ is not float:
+            value = _value(value, self._fun)
         self.gradients += 1
         return value, self._grad(x)
 
@@ -112,6 +123,29 @@ _NO_GRADIENT = (
     "for a function written with jax.numpy, `linestep.jax.objective(fun)` derives the "
     "gradient by autodiff."
 )
+
+
+def _name(fun: Any) -> str:
+    return getattr(fun, "__name__", None) or repr(fun)
+
+
+def _value(value: Any, fun: Any) -> float:
+    """The objective's value as a float, or a clear error naming the callable."""
+    return _validate.real_scalar(
+        f"The objective `{_name(fun)}` returned a value that", value,
+        "return f(x) as a Python float, e.g. `float(loss)` for a one-entry array "
+        "(complex values and strings are never converted)")
+
+
+def _pair(result: Any, fun: Any) -> tuple[Any, Any]:
+    """A fused objective's (value, gradient), or a clear error naming the callable."""
+    if isinstance(result, (tuple, list)) and len(result) == 2:
+        return result[0], result[1]
+    got = (f"a {type(result).__name__} of length {len(result)}"
+           if isinstance(result, (tuple, list)) else f"{result!r} ({type(result).__name__})")
+    raise TypeError(
+        f"The fused objective `{_name(fun)}` must return a pair (value, gradient); got "
+        f"{got}. Return both, or pass the gradient separately: `Objective(fun, grad)`.")
 
 
 def as_objective(objective: Any) -> Objective:

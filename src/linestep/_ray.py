@@ -27,7 +27,11 @@ from linestep._step import Trial
 # Relative spacing of float64; a step below ~EPS·‖x‖/‖d‖ no longer moves x.
 EPS = 2.220446049250313e-16
 INF = math.inf
+# A supplied f(x) may differ from a fresh evaluation by this much, relative to
+# max(1, |f(x)|), before `check_origin_value` calls it wrong (sums reordered, BLAS).
+VALUE_RTOL = 1e-6
 _NDARRAY = np.ndarray
+_FLOAT64, _FLOAT32 = np.float64, np.float32
 
 
 class BudgetSpent(Exception):
@@ -137,9 +141,19 @@ class Ray:
         direction = self.direction
         value, gradient = objective.value_and_gradient(x_new)
         if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
-            slope = (float(gradient.dot(direction))
-                     if gradient.__class__ is _NDARRAY and gradient.ndim == 1
-                     else _array.dot(gradient, direction))
+            product = None
+            if gradient.__class__ is _NDARRAY and gradient.ndim == 1:
+                try:
+                    product = gradient.dot(direction)
+                except ValueError:  # 1-D of another length: numpy refuses the product
+                    raise self._wrong_gradient(gradient, size) from None
+            # A real 1-D gradient against a 1-D direction gives a numpy float scalar; any
+            # other result (an array, a complex scalar) means another shape or dtype.
+            if product.__class__ is _FLOAT64 or product.__class__ is _FLOAT32:
+                slope = float(product)
+            else:  # other shapes, dtypes and array types: checked, never broadcast
+                gradient = self._checked(gradient, size)
+                slope = _array.dot(gradient, direction)
             if isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
         self.non_finite += 1
@@ -147,6 +161,7 @@ class Ray:
 
     def _complete(self, point: Point, gradient: Any) -> Point:
         """Add the gradient and slope to a point whose value is cached."""
+        gradient = self._checked(gradient, point.size)
         direction = self.direction
         slope = (float(gradient.dot(direction))  # the numpy fast path of value_and_slope
                  if gradient.__class__ is _NDARRAY and gradient.ndim == 1
@@ -162,6 +177,53 @@ class Ray:
         if point.value == INF and self.best is point:
             self.best = self._runner_up
         return point
+
+    def check_origin_value(self) -> None:
+        """Evaluate f(x) afresh (one evaluation of the budget) and raise ValueError when
+        it is clearly below the origin's value, which the caller supplied as `value`.
+
+        For searches whose trials look plausible only if φ(0) is right (Goldstein
+        expanding while φ rises): a `value` far above f(x) would make them accept a
+        point worse than x. Differences within `VALUE_RTOL` (rounding, a recomputed
+        sum) pass.
+        """
+        if self.count >= self.max_evaluations:
+            raise BudgetSpent
+        self.count += 1
+        true = self.objective.value(self.origin.x)
+        supplied = self.origin.value
+        if true < supplied - VALUE_RTOL * max(1.0, abs(supplied)):
+            raise ValueError(
+                f"`value` must be f(x); got value={supplied!r}, but the objective gives "
+                f"{true!r} at x. Pass value=f(x) at this x, or leave `value` out."
+            )
+
+    def _checked(self, gradient: Any, size: float) -> Any:
+        """The gradient at a trial point as an array of x's shape, or a clear error.
+
+        The 1-D numpy case of x's dtype is checked inline by `value_and_slope` (numpy
+        refuses a product of two lengths); every other gradient comes here, so none is
+        ever broadcast against the direction.
+        """
+        if gradient is None or isinstance(gradient, (str, bytes)):
+            raise self._wrong_gradient(gradient, size)
+        gradient = _array.as_point("grad", gradient)
+        if _array.shape(gradient) != _array.shape(self.origin.x):
+            raise self._wrong_gradient(gradient, size)
+        if gradient.__class__ is _NDARRAY and self.direction.__class__ is _NDARRAY:
+            return gradient
+        return _array.same_kind(self.origin.x, gradient)
+
+    def _wrong_gradient(self, gradient: Any, size: float) -> Exception:
+        shape = getattr(gradient, "shape", None)
+        got = f"shape {tuple(shape)}" if shape is not None else repr(gradient)
+        source = "the fused `fun`" if self.objective.fused else "`grad`"
+        return ValueError(
+            f"The objective's gradient {source} returned {got} at the trial point "
+            f"x + t·d (t = {size!r}); it must return an array of x's shape "
+            f"{_array.shape(self.origin.x)}. Fix the gradient function: a gradient of "
+            "another shape would be broadcast and give a wrong slope."
+        )
 
     def _take(self, size: float) -> Any:
         """Spend one evaluation of the budget and return x + size·d."""

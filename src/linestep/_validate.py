@@ -92,16 +92,40 @@ def choice(name: str, value: Any, options: tuple[str, ...]) -> str:
 
 def finite_scalar(name: str, value: Any) -> float:
     """A finite float (used for values supplied by the caller)."""
-    if isinstance(value, (str, bytes)):
-        raise TypeError(f"`{name}` must be a real scalar; got {value!r}.")
-    try:
-        result = float(value)
-    except (TypeError, ValueError):
-        raise TypeError(f"`{name}` must be a real scalar; got {value!r}.") from None
+    result = real_scalar(f"`{name}`", value, f"pass a float such as `{name}=5.0`")
     if not math.isfinite(result):
         raise ValueError(f"`{name}` must be finite; got {name}={result!r}.")
     return result
 
+def real_scalar(what: str, value: Any, fix: str) -> float:
+    """`value` as a float, for a real scalar (0-d arrays included); `what` names it in
+    the message ("`value`", "The objective `f`") and `fix` says what to do instead.
+
+    Strings, booleans, None, complex numbers and arrays with more than one entry or
+    any dimension are refused with TypeError (a string is never parsed: "1.5" is a
+    bug, not a number); an integer too large for a float with ValueError.
+    """
+    if value.__class__ is float:
+        return value
+    problem = None
+    kind = getattr(getattr(value, "dtype", None), "kind", "")  # numpy and JAX scalars
+    if value is None or isinstance(value, (str, bytes, bool)) or kind == "b":
+        problem = f"{value!r} ({type(value).__name__})"
+    elif isinstance(value, complex) or kind == "c":
+        problem = f"the complex number {value!r}"
+    elif getattr(value, "shape", ()) != ():
+        problem = f"an array of shape {tuple(value.shape)}"
+    elif not isinstance(value, numbers.Real) and not hasattr(value, "__float__"):
+        problem = f"{value!r} ({type(value).__name__})"
+    if problem is None:
+        try:
+            return float(value)
+        except OverflowError:
+            shown = repr(value) if len(repr(value)) <= 40 else f"a {len(str(value))}-digit integer"
+            raise ValueError(f"{what} is {shown}, too large for a float; {fix}.") from None
+        except (TypeError, ValueError):
+            problem = f"{value!r} ({type(value).__name__})"
+    raise TypeError(f"{what} must be a real scalar; got {problem}. Fix: {fix}.")
 
 
 def negative_gradient_multiple(owner: str, gradient: Any, direction: Any, slope: float,
@@ -114,7 +138,10 @@ def negative_gradient_multiple(owner: str, gradient: Any, direction: Any, slope:
     """
     from linestep import _array
 
-    scale = -slope / _array.dot(gradient, gradient)
+    # Scaled by ‖gradient‖∞ so that gradient·gradient cannot underflow to 0.
+    size = _array.max_abs(gradient)
+    unit = gradient / size
+    scale = -(slope / size) / (_array.dot(unit, unit) * size)
     if scale > 0.0:
         residual = _array.norm2(direction + scale * gradient)
         if residual <= rtol * _array.norm2(direction):

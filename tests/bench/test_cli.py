@@ -109,6 +109,8 @@ def test_a_bad_objective_spec_is_named(tmp_path: Path, capsys) -> None:
 
 
 def test_an_incompatible_results_file_is_a_clear_error(tmp_path: Path, capsys) -> None:
+    pytest.importorskip("sklearn", reason="the default study's logistic problem needs "
+                        "scikit-learn (linestep[bench])")
     (tmp_path / "results.sqlite").write_text("not a database\n" * 10)
     assert cli.main(["bench", "--controllers", "armijo", "--out", str(tmp_path)]) == 2
     assert "is not a linestep results file" in capsys.readouterr().err
@@ -128,6 +130,8 @@ def test_help_has_examples(capsys) -> None:
 
 
 def test_the_default_controllers_cover_every_family() -> None:
+    pytest.importorskip("sklearn", reason="the default study's logistic problem needs "
+                        "scikit-learn (linestep[bench])")
     from linestep.bench.problems import get_problem
     from linestep.rules.fallback import Fallback
     from linestep.rules.fixed import Fixed

@@ -21,9 +21,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep import _validate
 from linestep.jax import _initial, _tree
 from linestep.jax._armijo import Backtracking, NonmonotoneSearch, nonmonotone_armijo

@@ -11,9 +11,8 @@ from __future__ import annotations
 
 from typing import Any
 
-import jax.numpy as jnp
-
 import jax
+import jax.numpy as jnp
 
 
 def check_function(fun: Any) -> None:
@@ -71,4 +70,49 @@ def check_state(state: Any, kind: type, x: Any, *, returned_by: str) -> Any:
             f"but `x` has structure {structure}. Call begin(x) on the new parameters to get "
             "a fresh state."
         )
+    _check_state_shapes(state.method, x)
     return structure
+
+
+# Fields of a method's memory that hold copies of x or of a gradient (the
+# Barzilai–Borwein pair), by how many leading axes they add to each leaf. The L-BFGS
+# ring buffers have their own check, in `propose`.
+_COPIES_OF_X = {"x": 0, "gradient": 0}
+
+
+def _check_state_shapes(method: Any, x: Any) -> None:
+    """Raise ValueError naming `state` when its copies of x have other leaf shapes.
+
+    A state built for x of one shape and passed with x of another (same pytree
+    structure) would otherwise fail deep inside `lax` with a broadcasting error.
+    """
+    if method is None:
+        return
+    wanted = [jnp.shape(leaf) for leaf in jax.tree_util.tree_leaves(x)]
+    for name, extra in _COPIES_OF_X.items():
+        tree = getattr(method, name, None)
+        if tree is None:
+            continue
+        shapes = [jnp.shape(leaf)[extra:] for leaf in jax.tree_util.tree_leaves(tree)]
+        if shapes != wanted:
+            raise ValueError(
+                f"`state` was built by begin() for parameters of leaf shapes {shapes}, but "
+                f"`x` has leaf shapes {wanted}. Call begin(x) on the new parameters to get "
+                "a fresh state."
+            )
+
+
+def check_value(value: Any) -> None:
+    """Raise ValueError naming `value` unless it is a scalar (f(x) is one number)."""
+    if value is None:
+        return
+    shape = jnp.shape(value)
+    if shape != ():
+        raise ValueError(
+            f"`value` must be the scalar f(x); got an array of shape {shape}. Pass the "
+            "loss itself (for a per-example loss, its sum or mean), or leave `value` out."
+        )
+    dtype = getattr(value, "dtype", None)
+    if dtype is not None and not jnp.issubdtype(dtype, jnp.floating) \
+            and not jnp.issubdtype(dtype, jnp.integer):
+        raise TypeError(f"`value` must be a real scalar f(x); got dtype {dtype}.")

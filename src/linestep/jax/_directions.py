@@ -20,9 +20,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep import _validate
 from linestep.directions import LBFGS, skip_floor
 from linestep.jax import _tree

@@ -16,9 +16,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep.jax import _tree
 
 INF = jnp.inf

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep import _validate
 from linestep.jax import _tree
 from linestep.jax._armijo import armijo

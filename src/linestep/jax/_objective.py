@@ -4,9 +4,9 @@ from __future__ import annotations
 
 from typing import Any
 
+import jax
 import numpy as np
 
-import jax
 from linestep import _validate
 from linestep._objective import Objective
 from linestep.jax._checks import check_function

@@ -1,7 +1,7 @@
 """A few Moré–Garbow–Hillstrom problems written with `jax.numpy`, for tests and benchmarks.
 
 Each is f(x) = Σ F_i(x)², the same residuals as `linestep.bench._mgh` (checked
-against those numpy versions in ``tests/jax/test_compiled.py``); the gradient
+against those numpy versions in ``tests/linestep_jax/test_compiled.py``); the gradient
 comes from autodiff.
 
 References

@@ -15,9 +15,9 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
+import jax
 import numpy as np
 
-import jax
 from linestep._step import MESSAGES, Status
 from linestep.stopping import Kind, Verdict
 

@@ -29,9 +29,9 @@ from __future__ import annotations
 
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep.jax import _checks, _initial, _tree
 from linestep.jax._line import INF, Line, Point, scalar_value, value_and_gradient
 from linestep.jax._records import CompiledStep, Rebuildable, SearchState, StatusCode
@@ -141,11 +141,12 @@ class CompiledSearch(Rebuildable):
         ------
         ValueError
             While tracing, when `state`, `direction` or `gradient` does not match
-            the structure of `x`.
+            the structure or leaf shapes of `x`, or `value` is not a scalar.
         """
         _checks.check_function(fun)
         structure = _checks.check_state(state, SearchState, x, returned_by="step")
         _checks.check_like("direction", direction, x, structure)
+        _checks.check_value(value)
         if gradient is not None:
             _checks.check_like("gradient", gradient, x, structure)
             gradient = _tree.like(gradient, x)

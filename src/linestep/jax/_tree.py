@@ -10,10 +10,9 @@ from __future__ import annotations
 
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 import numpy as np
-
-import jax
 
 tree_map = jax.tree_util.tree_map
 tree_leaves = jax.tree_util.tree_leaves

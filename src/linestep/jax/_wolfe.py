@@ -19,9 +19,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
+import jax
 import jax.numpy as jnp
 
-import jax
 from linestep.jax import _initial, _interpolate, _tree
 from linestep.jax._line import INF, Line, Point
 from linestep.jax._search import (

@@ -139,13 +139,15 @@ class BarzilaiBorwein(StepController):
             )
         if globalize is _RAYDAN:
             globalize = NonmonotoneArmijo(reference="max", memory=10)
-        elif globalize is not None and not isinstance(globalize, StepController):
+        elif globalize is not None and not _is_search(globalize):
+            # A rule (Fixed, Schedule, Polyak, BarzilaiBorwein, Fallback) would replace
+            # the BB step with its own, silently: only a search uses the trial it is given.
+            kind = "class" if isinstance(globalize, type) else "object"
             raise TypeError(
-                "`globalize` must be a line search such as NonmonotoneArmijo() or "
-                f"Armijo(), or None for the pure BB step; got {globalize!r}."
+                "`globalize` must be a line search instance such as NonmonotoneArmijo() or "
+                f"Armijo(), or None for the pure BB step; got the {kind} {globalize!r}, "
+                "which would not search from the BB step."
             )
-        if isinstance(globalize, BarzilaiBorwein):
-            raise TypeError("`globalize` must be a line search, not another BarzilaiBorwein.")
         self.globalize = globalize
         if globalize is None:
             self.max_evaluations = 1
@@ -208,6 +210,18 @@ class BarzilaiBorwein(StepController):
 
     def _clip(self, size: float) -> float:
         return min(max(size, self.min_size), self.max_size)
+
+
+def _is_search(controller: Any) -> bool:
+    """An instance of a line search of linestep.searches (or of a subclass of one)."""
+    from linestep.searches.armijo import Armijo
+    from linestep.searches.goldstein import Goldstein
+    from linestep.searches.hager_zhang import HagerZhang
+    from linestep.searches.more_thuente import MoreThuente
+    from linestep.searches.wolfe import Wolfe
+
+    return isinstance(controller, (Armijo, Goldstein, HagerZhang, MoreThuente,
+                                   NonmonotoneArmijo, Wolfe))
 
 
 def _snapshot(a: Any) -> Any:

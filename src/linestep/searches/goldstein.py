@@ -48,6 +48,13 @@ class Goldstein(StepController):
         ``max_evaluations``: as above, best sufficient-decrease point or `x` unchanged.
         ``non_finite``, ``not_descent``: `x` unchanged.
 
+    Raises
+    ------
+    ValueError
+        A supplied `value` is clearly above f(x): checked with one extra evaluation
+        when the trials keep reading "too short" while φ rises, or at `max_size`,
+        the two cases where a wrong φ(0) would move x uphill.
+
     References
     ----------
     A. A. Goldstein, "On steepest descent", SIAM J. Control 3(1):147–151, 1965.
@@ -83,6 +90,7 @@ class Goldstein(StepController):
         f0, d0, c = origin.value, origin.slope, self.c
         short, long = 0.0, math.inf
         size = min(first, self.max_size)
+        lowest, checked = math.inf, False
         while True:
             point = ray.value(size)
             value = point.value
@@ -90,11 +98,19 @@ class Goldstein(StepController):
             if change > c * size * d0:  # too long
                 long = size
             elif change < (1.0 - c) * size * d0:  # too short
+                if value > lowest and not checked:
+                    # Still "too short" while φ rises: plausible only if φ(0) is right.
+                    # A `value` far above f(x) would walk x uphill, so check it once.
+                    ray.check_origin_value()
+                    checked = True
                 short = size
             else:
                 return point, Status.accepted
+            lowest = min(lowest, value)
             if long == math.inf:
                 if size >= self.max_size:
+                    if not checked:
+                        ray.check_origin_value()
                     return ray.best, Status.step_too_large
                 size = min(EXPAND * size, self.max_size)
                 continue

@@ -242,12 +242,8 @@ class AnyOf(Criterion):
             verdict = criterion(progress)
             if verdict is None:
                 continue
-            if not isinstance(verdict, Verdict):
-                raise TypeError(
-                    f"The criterion {criterion!r} returned {verdict!r}; a criterion "
-                    "must return a Verdict or None."
-                )
-            if first is None:
+            verdict = _as_verdict(verdict, criterion, "The criterion")
+            if verdict is not None and first is None:
                 first = verdict
         return first
 
@@ -262,6 +258,23 @@ class AnyOf(Criterion):
         if len(self.criteria) == 1:
             return f"AnyOf({self.criteria[0]!r})"
         return " | ".join(repr(criterion) for criterion in self.criteria)
+
+
+def _as_verdict(result: Any, criterion: Any, who: str) -> Verdict | None:
+    """A criterion's answer as a Verdict or None: None and False go on; True
+    (numpy's too) stops with a ``budget`` verdict; anything else raises TypeError."""
+    if result is None or isinstance(result, Verdict):
+        return result
+    if isinstance(result, (bool, np.bool_)):
+        if not result:
+            return None
+        return Verdict(kind=Kind.budget, criterion=repr(criterion), reason=(
+            f"{who} {criterion!r} returned True; return a stopping.Verdict instead to "
+            "say whether the run converged or failed."))
+    raise TypeError(
+        f"{who} {criterion!r} returned {result!r} of type {type(result).__name__}; a "
+        "criterion must return a Verdict, None (go on) or a bool."
+    )
 
 
 class _History(Criterion):

@@ -22,6 +22,9 @@ from linestep.stopping._base import (
 
 # ----------------------------------------------------------------------- failures
 
+# A value counts as risen above the best only by more than this, relative to
+# max(1, |best|) (about √ε of float64: far above rounding noise at an optimum).
+RISE_RTOL = 1e-8
 _DIVERGING_FIX = "the step is probably too large, so use a line search or a smaller step."
 
 
@@ -99,7 +102,7 @@ class Stall(_History):
         it would call slow but sound convergence a stall.
     """
 
-    __slots__ = ("iterations", "rtol", "_best", "_improved_at")
+    __slots__ = ("iterations", "rtol", "_best", "_improved_at", "_previous", "_rises")
 
     def __init__(self, *, iterations: int = DEFAULT_STALL_ITERATIONS, rtol: float = 0.0) -> None:
         super().__init__()
@@ -107,6 +110,8 @@ class Stall(_History):
         self.rtol = _relative("rtol", rtol)
         self._best: float | None = None
         self._improved_at = 0
+        self._previous: float | None = None  # the value at the last new iteration
+        self._rises = 0  # iterations since the last improvement whose value rose
 
     def _arguments(self) -> list[tuple[str | None, Any]]:
         return [("iterations", self.iterations), ("rtol", self.rtol)]
@@ -116,6 +121,8 @@ class Stall(_History):
         super().reset()
         self._best = None
         self._improved_at = 0
+        self._previous = None
+        self._rises = 0
 
     def _improves(self, value: float) -> bool:
         if self._best is None:
@@ -129,10 +136,14 @@ class Stall(_History):
     def _test(self, progress: Progress) -> tuple[Kind, str] | None:
         value = _scalar(progress.value)
         k = progress.iteration
-        self._advance(k)
+        if self._advance(k):
+            previous, self._previous = self._previous, value
+            if previous is not None and value > previous:
+                self._rises += 1
         if self._improves(value):
             self._best = value
             self._improved_at = k
+            self._rises = 0
             return None
         idle = k - self._improved_at
         if idle < self.iterations:
@@ -141,15 +152,20 @@ class Stall(_History):
             f"The best value {self._best:.3g} (iteration {self._improved_at}) has not "
             f"improved for {idle} iterations"
         )
-        if math.isfinite(value) and value > self._best:
-            # A fixed rate that is too large often climbs slowly: say so.
+        if (math.isfinite(value) and value - self._best > RISE_RTOL * max(1.0, abs(self._best))
+                and 2 * self._rises >= idle):
+            # Values that rose in most idle iterations, well above rounding: a fixed
+            # rate that is too large often climbs slowly, so say so.
             reason = (
                 f"{head} and the value is now {value:.3g}; if the values keep rising, "
                 f"{_DIVERGING_FIX}"
             )
         else:
+            spread = value - self._best if math.isfinite(value) else math.inf
             reason = (
-                f"{head}; check the direction and step controller, or loosen the "
-                "convergence tolerances to stop earlier."
+                f"{head}; the value is now {value:.3g}, {spread:.3g} above it, and did not "
+                "keep rising. x may already be as good as this precision allows: loosen "
+                "the convergence tolerances to stop earlier, or check the gradient, the "
+                "direction and the step controller."
             )
         return Kind.failed, reason

@@ -3,10 +3,12 @@
 ``jax_enable_x64`` is a *global* JAX switch: it changes the default dtype of
 every array created afterwards in the process. The host and compiled paths are
 compared here to ~1e-10, which needs float64, so the autouse fixture below turns
-it on for each test module in ``tests/jax`` and restores the previous setting
+it on for each test module in ``tests/linestep_jax`` and restores the previous setting
 after that module (module scope is the one pytest tears down reliably for a
-directory without ``__init__.py``; the directory has none because a package
-named ``jax`` would shadow JAX itself). The rest of the suite and the doctests
+directory without ``__init__.py``). The directory is not called ``jax``: pytest
+puts ``tests/`` on ``sys.path``, where a ``jax`` directory would shadow JAX
+itself, and without JAX installed ``importorskip("jax")`` would then find the
+directory instead of skipping. The rest of the suite and the doctests
 run with JAX's default. Test modules here create no JAX arrays at import time,
 before the fixture runs. Float32 tests create float32 arrays explicitly;
 `x64_off` switches float64 off for a test that checks JAX's default precision.
