@@ -213,11 +213,11 @@ def test_every_run_has_exactly_one_outcome_and_stall_at_the_optimum_is_solved() 
                               stop=stall_at_optimum), workers=1)
     [record] = results
     assert results.outcome(record) == "solved"
-    counts = {outcome: 0 for outcome in OUTCOMES}
+    counts = {outcome: 0 for outcome, _ in OUTCOMES}
     for record in run_study(_study(), workers=1):
         counts[results.outcome(record)] += 1
     assert sum(counts.values()) == 6
-    for outcome in OUTCOMES:
+    for outcome, _ in OUTCOMES:
         assert f"{outcome}:" in OUTCOME_DEFINITIONS
 
 
