@@ -87,7 +87,7 @@ def test_returns_a_step_whose_counts_match_the_objective(name):
     assert isinstance(step.status, Status)
     assert step.evaluations == objective.evaluations - before
     # An ordinary frozen Step, equal to one built by its constructor (the base class
-    # builds it more cheaply; see `_controller._step`).
+    # builds it more cheaply; see `_step.step_from`).
     assert step == Step(**{name: getattr(step, name) for name in Step.__slots__})
     with pytest.raises(dataclasses.FrozenInstanceError):
         step.size = 2.0

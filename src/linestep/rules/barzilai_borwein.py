@@ -8,7 +8,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
 from linestep._step import Status
 from linestep.searches.nonmonotone import NonmonotoneArmijo
@@ -164,7 +164,7 @@ class BarzilaiBorwein(StepController):
             self.globalize.reset()
 
     # -- hooks ---------------------------------------------------------------------
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         scale = _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,
                                                      origin.slope, rtol=DIRECTION_RTOL)
@@ -176,14 +176,14 @@ class BarzilaiBorwein(StepController):
         if self.globalize is None:
             point = ray.value(size)
             if not point.finite:
-                return None, Status.non_finite, (
+                return Outcome(None, Status.non_finite, (
                     f"f is not finite at the BB step {size:.3g}; x is unchanged. Lower "
                     "`max_size` or use the default nonmonotone globalisation."
-                )
-            return point, Status.accepted, note
-        outcome = self.globalize._search(ray, size)
-        if note is not None and outcome[1] is Status.accepted and len(outcome) == 2:
-            return outcome[0], outcome[1], note
+                ))
+            return Outcome(point, Status.accepted, note)
+        outcome = self._delegate(self.globalize, ray, first=size)
+        if note is not None and outcome.status is Status.accepted and outcome.message is None:
+            return Outcome(outcome.point, outcome.status, note)
         return outcome
 
     # -- the BB step -----------------------------------------------------------------

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from linestep import _array, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
 from linestep.rules.barzilai_borwein import DIRECTION_RTOL
@@ -131,13 +131,13 @@ class Polyak(StepController):
         self._path = 0.0  # Σ t·‖d‖ since the group started
         self._bound: float | None = self.path_bound  # B in use
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,
                                              origin.slope, rtol=DIRECTION_RTOL)
         target = self.f_min if self.f_min is not None else self._level(origin.value)
         if not origin.value > target:
-            return None, Status.target_met
+            return Outcome(None, Status.target_met)
         size = min((origin.value - target) / -origin.slope, self.max_size)
         length = _array.norm2(ray.direction)
         if self.f_min is None and self._bound is None:
@@ -148,10 +148,10 @@ class Polyak(StepController):
                 break
             point = ray.value(point.size * NON_FINITE_SHRINK)
         if not point.finite:
-            return None, Status.non_finite
+            return Outcome(None, Status.non_finite)
         if self.f_min is None:
             self._path += point.size * length  # the path actually travelled
-        return point, Status.accepted
+        return Outcome(point, Status.accepted)
 
     def _level(self, value: float) -> float:
         """Goffin–Kiwiel target for a call starting at f_k = `value`."""

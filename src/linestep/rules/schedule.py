@@ -10,7 +10,7 @@ from collections.abc import Callable
 from typing import Any
 
 from linestep import _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
 
@@ -323,18 +323,18 @@ class Schedule(StepController):
         return self._sizes.call()
 
     # -- the rule ------------------------------------------------------------------
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         k = self._k
         size = self._sizes(k)
         # Count the call before evaluating: a guarded failure is still an iteration.
         self._k = k + 1
         point = ray.value(size)
         if not point.finite:
-            return None, Status.non_finite, (
+            return Outcome(None, Status.non_finite, (
                 f"The scheduled step of size {size:.3g} (k={k}) gave a non-finite value; x "
                 "is unchanged. Lower the schedule or wrap it in Fallback(schedule, Armijo())."
-            )
-        return point, Status.accepted
+            ))
+        return Outcome(point, Status.accepted)
 
     def _reset_state(self) -> None:
         self._k = 0

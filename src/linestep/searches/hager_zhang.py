@@ -6,7 +6,7 @@ import math
 from typing import Any
 
 from linestep import _array, _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
 from linestep._step import Status
@@ -32,9 +32,9 @@ _APPROXIMATE = (
 
 
 class _Stop(Exception):
-    """Ends the search from any depth: carries the outcome tuple for `_search`."""
+    """Ends the search from any depth: carries the `Outcome` for `_search`."""
 
-    def __init__(self, outcome: tuple) -> None:
+    def __init__(self, outcome: Outcome) -> None:
         super().__init__()
         self.outcome = outcome
 
@@ -168,7 +168,7 @@ class HagerZhang(StepController):
         self._weight = 0.0  # Q_{k-1} of the running average
         self._scale = 0.0  # C_{k-1}
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0, d0, c1 = origin.value, origin.slope, self.c1
         # ε_k = ε·C_k after folding |f(x_k)| into the running average C_k (2006, §3).
@@ -183,9 +183,9 @@ class HagerZhang(StepController):
         slope = point.slope
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
-                return point, Status.accepted, _WOLFE
+                return Outcome(point, Status.accepted, _WOLFE)
             if slope <= (2.0 * c1 - 1.0) * d0 and point.value <= f0 + epsilon_k:
-                return point, Status.accepted, _APPROXIMATE
+                return Outcome(point, Status.accepted, _APPROXIMATE)
         walk = _Walk(self, ray, epsilon_k)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
@@ -228,16 +228,16 @@ class _Walk:
         if slope is not None and slope >= self.curvature:
             # (T1) written as in the paper: φ(t) − φ(0) ≤ δ·t·φ'(0).
             if point.value - self.f0 <= self.c1 * size * self.d0:
-                raise _Stop((point, Status.accepted, _WOLFE))
+                raise _Stop(Outcome(point, Status.accepted, _WOLFE))
             if slope <= self.approximate and point.value <= self.limit:
-                raise _Stop((point, Status.accepted, _APPROXIMATE))
+                raise _Stop(Outcome(point, Status.accepted, _APPROXIMATE))
         return point
 
     def check_width(self, low: Point, high: Point) -> float:
         """The bracket's width; stops with ``interval_too_small`` at rounding level."""
         width = high.size - low.size
         if width <= SIZE_SPACINGS * EPS * high.size or width <= self.ray.rounding_size():
-            raise _Stop((self.ray.best, Status.interval_too_small))
+            raise _Stop(Outcome(self.ray.best, Status.interval_too_small))
         return width
 
     def bracket(self, size: float) -> tuple[Point, Point]:
@@ -251,7 +251,7 @@ class _Walk:
             if slope is None or point.value > self.limit:  # B2 (non-finite: too long)
                 return self.bisect(low, point)
             if size >= self.max_size:
-                raise _Stop((self.ray.best, Status.step_too_large))
+                raise _Stop(Outcome(self.ray.best, Status.step_too_large))
             low = point  # B3
             size = min(self.expand * size, self.max_size)
 
@@ -276,7 +276,7 @@ class _Walk:
             weight = theta if high.slope is not None else NON_FINITE_SHRINK
             size = low.size + weight * width
             if not low.size < size < high.size:  # θ near 0 or 1 meets float spacing
-                raise _Stop((self.ray.best, Status.interval_too_small))
+                raise _Stop(Outcome(self.ray.best, Status.interval_too_small))
             point = self.probe(size)
             slope = point.slope
             if slope is not None:

@@ -6,7 +6,7 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import (
     cubic_beyond,
     cubic_from_slopes,
@@ -160,7 +160,7 @@ class MoreThuente(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0, g0 = origin.value, origin.slope
         decrease = self.c1 * g0  # ψ(t) = φ(t) − (f0 + t·decrease), ψ'(t) = φ'(t) − decrease
@@ -174,7 +174,7 @@ class MoreThuente(StepController):
         # loop's own test); otherwise the loop gets this point again from the ray's cache.
         point = evaluate(size)
         if point.value <= f0 + size * decrease and -flat <= point.slope <= flat:
-            return point, Status.accepted
+            return Outcome(point, Status.accepted)
         # The interval ends in φ terms: t_l (least working value) and t_u.
         lt, lf, lg = 0.0, f0, g0
         ut, uf, ug = 0.0, f0, g0
@@ -193,13 +193,13 @@ class MoreThuente(StepController):
                 g = point.slope
                 if f <= sufficient:
                     if -flat <= g <= flat:
-                        return point, Status.accepted
+                        return Outcome(point, Status.accepted)
                     if g >= 0.0:
                         auxiliary = False
                     elif size >= max_size and g <= decrease:
-                        return ray.best, Status.step_too_large
+                        return Outcome(ray.best, Status.step_too_large)
                 if size <= min_size and (f > sufficient or g >= decrease):
-                    return ray.best, Status.step_too_small
+                    return Outcome(ray.best, Status.step_too_small)
                 if auxiliary and sufficient < f <= lf:
                     # ψ differs from φ by a linear function: shift values and slopes.
                     wl, wt = lf - lt * decrease, f - size * decrease
@@ -221,7 +221,7 @@ class MoreThuente(StepController):
                     lt, lf, lg = size, f, g
             else:
                 if size <= min_size:
-                    return ray.best, Status.step_too_small
+                    return Outcome(ray.best, Status.step_too_small)
                 next_size = lt + NON_FINITE_SHRINK * (size - lt)
                 ut, uf, ug = size, INF, 0.0
                 bracketed = True
@@ -243,7 +243,7 @@ class MoreThuente(StepController):
                 or upper - lower <= xtol * upper
                 or upper - lower <= ray.rounding_size()
             ):
-                return ray.best, Status.interval_too_small
+                return Outcome(ray.best, Status.interval_too_small)
             size = next_size
 
 

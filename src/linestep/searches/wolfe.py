@@ -6,7 +6,7 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slope
 from linestep._ray import Point, Ray
 from linestep._step import Status
@@ -138,7 +138,7 @@ class Wolfe(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0 = origin.value
         decrease = self.c1 * origin.slope  # < 0: φ(t) must lie below f0 + t·decrease
@@ -159,11 +159,11 @@ class Wolfe(StepController):
                 return self._zoom(ray, previous, point)
             slope = point.slope
             if slope >= -flat and (slope <= flat or not strong):
-                return point, Status.accepted
+                return Outcome(point, Status.accepted)
             if slope >= 0.0:
                 return self._zoom(ray, point, previous)
             if size >= max_size:
-                return ray.best, Status.step_too_large
+                return Outcome(ray.best, Status.step_too_large)
             size = self._extrapolate(previous, point)
             previous = point
 
@@ -182,7 +182,7 @@ class Wolfe(StepController):
             model = low
         return model if model < self.max_size else self.max_size
 
-    def _zoom(self, ray: Ray, lo: Point, hi: Point) -> tuple:
+    def _zoom(self, ray: Ray, lo: Point, hi: Point) -> Outcome:
         """Alg. 3.6: shrink [lo, hi] (either order) until a trial satisfies both conditions.
 
         Invariants: `lo` has sufficient decrease and the lowest value so far; the
@@ -202,7 +202,7 @@ class Wolfe(StepController):
             a, b = lo.size, hi.size
             width = abs(b - a)
             if width <= floor or width <= eps * max(a, b):
-                return ray.best, Status.interval_too_small
+                return Outcome(ray.best, Status.interval_too_small)
             if width >= BISECT_UNLESS_SHRUNK * width_older:
                 size = 0.5 * (a + b)
             elif hi.value < INF:
@@ -217,7 +217,7 @@ class Wolfe(StepController):
                 continue
             slope = point.slope
             if slope >= -flat and (slope <= flat or not strong):
-                return point, Status.accepted
+                return Outcome(point, Status.accepted)
             if slope * (b - a) >= 0.0:
                 hi = lo
             lo = point
