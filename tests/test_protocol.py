@@ -27,7 +27,7 @@ def _factories() -> dict[str, object]:
         "Fallback": lambda: linestep.Fallback(linestep.Fixed(0.1), linestep.Armijo()),
     }
     optional = {
-        "Schedule": lambda: linestep.Schedule.inverse_time(0.4, rate=0.01),
+        "Schedule": lambda: linestep.Schedule.robbins_monro(0.4, rate=0.01),
         "Wolfe": lambda: linestep.Wolfe(),
         "MoreThuente": lambda: linestep.MoreThuente(),
         "HagerZhang": lambda: linestep.HagerZhang(),

@@ -71,8 +71,8 @@ def _controllers(problem: Calibration) -> list[tuple[str, Callable[[], object]]]
     except ImportError:  # pragma: no cover - the schedule module ships with the package
         return entries
     safe = 1.0 / problem.lipschitz
-    entries.append((f"Schedule.inverse_time({safe:.3g}, rate=0.01)",
-                    lambda: Schedule.inverse_time(safe, rate=0.01)))
+    entries.append((f"Schedule.robbins_monro({safe:.3g}, rate=0.01)",
+                    lambda: Schedule.robbins_monro(safe, rate=0.01)))
     return entries
 
 

@@ -9,6 +9,7 @@ from linestep import _array, _initial, _validate
 from linestep._controller import Outcome, StepController
 from linestep._interpolate import quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
+from linestep._rebuild import Rebuilds
 from linestep._step import Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
@@ -304,7 +305,7 @@ class _Walk:
         return self.update(new_low, new_high, second)  # S4
 
 
-class HagerZhangStart:
+class HagerZhangStart(Rebuilds):
     """First trial by the rules I0 and I2 of Hager & Zhang (2006, §3).
 
     I0 (no step accepted yet): t = fraction·‖x‖∞/‖g‖∞ when x ≠ 0, else
@@ -339,8 +340,7 @@ class HagerZhangStart:
         self.fraction = _validate.positive("fraction", fraction)
         self.growth = _validate.positive("growth", growth)
 
-    def __repr__(self) -> str:
-        return f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r})"
+    _fields = ("fraction", "growth")
 
     def guess(self, memory: _initial.Memory, ray: Any) -> float:
         if memory.size is not None:  # I2
