@@ -89,9 +89,9 @@ CASES = [pytest.param(table, row[0], id=f"table{table['table']}-a0={row[0]:g}")
 @pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
 @pytest.mark.parametrize(("table", "alpha0"), CASES)
 def test_paper_functions(table, alpha0, strong):
-    """Moré & Thuente 1994 §5 functions, ftol/gtol per table (recalled from memory):
+    """Moré & Thuente 1994 §5 functions, c1/c2 per table (recalled from memory):
     the accepted step satisfies the conditions claimed; the budget is not needed."""
-    c1, c2 = table["ftol"], table["gtol"]
+    c1, c2 = table["c1"], table["c2"]
     step, f0, d0 = search_phi(Wolfe(c1=c1, c2=c2, strong=strong, initial=alpha0),
                               make_phi(table))
     assert step.status is Status.accepted

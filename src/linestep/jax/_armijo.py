@@ -24,10 +24,11 @@ import jax.numpy as jnp
 
 import jax
 from linestep import _validate
+from linestep._constants import NON_FINITE_SHRINK
 from linestep.jax import _initial, _interpolate
 from linestep.jax._line import INF, Line
 from linestep.jax._search import ACCEPTED, MAX_EVALUATIONS, STEP_TOO_SMALL, CompiledSearch
-from linestep.searches.armijo import NON_FINITE_SHRINK, Armijo
+from linestep.searches.armijo import Armijo
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 _RUNNING, _ACCEPTED, _TOO_SMALL = 0, 1, 2

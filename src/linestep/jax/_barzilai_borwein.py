@@ -25,11 +25,12 @@ import jax.numpy as jnp
 
 import jax
 from linestep import _validate
+from linestep._constants import DIRECTION_RTOL
 from linestep.jax import _initial, _tree
 from linestep.jax._armijo import Backtracking, NonmonotoneSearch, nonmonotone_armijo
 from linestep.jax._line import Line
 from linestep.jax._search import CompiledSearch, guarded_step
-from linestep.rules.barzilai_borwein import DIRECTION_RTOL, BarzilaiBorwein
+from linestep.rules.barzilai_borwein import BarzilaiBorwein
 
 
 @jax.tree_util.register_dataclass

@@ -22,6 +22,7 @@ from typing import Any
 import jax.numpy as jnp
 
 import jax
+from linestep._constants import BISECT_UNLESS_SHRUNK, NON_FINITE_SHRINK
 from linestep.jax import _initial, _interpolate, _tree
 from linestep.jax._line import INF, Line, Point
 from linestep.jax._search import (
@@ -33,10 +34,8 @@ from linestep.jax._search import (
 )
 from linestep.searches.wolfe import (
     AGREE,
-    BISECT_UNLESS_SHRUNK,
     EXTRAPOLATE_MIN,
     MARGIN,
-    NON_FINITE_SHRINK,
     TRUSTED_MARGIN,
     VALUE_TIE,
     Wolfe,

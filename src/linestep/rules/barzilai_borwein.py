@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _initial, _validate
+from linestep._constants import DIRECTION_RTOL
 from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
 from linestep._step import Status
@@ -15,8 +16,6 @@ from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 __all__ = ["BarzilaiBorwein"]
 
-# Largest ‖d − c·(−g)‖ / ‖d‖ still read as d = c·(−g): rounding of a negation or scaling.
-DIRECTION_RTOL = 1e-6
 
 _NAME = "BarzilaiBorwein"
 

@@ -3,11 +3,10 @@
 from __future__ import annotations
 
 from linestep import _array, _validate
+from linestep._constants import DIRECTION_RTOL, NON_FINITE_SHRINK
 from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
-from linestep.rules.barzilai_borwein import DIRECTION_RTOL
-from linestep.searches._backtrack import NON_FINITE_SHRINK
 
 __all__ = ["Polyak"]
 

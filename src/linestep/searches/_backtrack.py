@@ -2,13 +2,11 @@
 
 from __future__ import annotations
 
+from linestep._constants import NON_FINITE_SHRINK
 from linestep._controller import Outcome
 from linestep._interpolate import clip, cubic_backtrack, quadratic_from_slope
 from linestep._ray import Point, Ray
 from linestep._step import Status
-
-# Shrink factor after a non-finite trial, where there is nothing to interpolate.
-NON_FINITE_SHRINK = 0.1
 
 
 def backtrack(ray: Ray, first: float, reference: float, c1: float, shrink: float,

@@ -7,7 +7,6 @@ from typing import Any
 from linestep import _initial, _validate
 from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
-from linestep.searches._backtrack import NON_FINITE_SHRINK as NON_FINITE_SHRINK  # re-exported
 from linestep.searches._backtrack import backtrack
 
 __all__ = ["Armijo"]

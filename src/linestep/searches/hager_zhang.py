@@ -6,6 +6,7 @@ import math
 from typing import Any
 
 from linestep import _array, _initial, _validate
+from linestep._constants import NON_FINITE_SHRINK
 from linestep._controller import Outcome, StepController
 from linestep._interpolate import quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
@@ -14,9 +15,6 @@ from linestep._step import Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
 
-# After a non-finite trial the next one is this fraction of the way from the lower
-# end of the bracket (our safeguard, the same factor as Armijo's; not in the paper).
-NON_FINITE_SHRINK = 0.1
 # A bracket narrower than this many float64 spacings of its upper end has no interior
 # point left to try (the midpoint rounds to an end), whatever the rounding level in x.
 SIZE_SPACINGS = 4.0

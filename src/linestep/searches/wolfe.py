@@ -6,6 +6,7 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
+from linestep._constants import BISECT_UNLESS_SHRUNK, NON_FINITE_SHRINK
 from linestep._controller import Outcome, StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slope
 from linestep._ray import Point, Ray
@@ -24,12 +25,8 @@ AGREE = 1e-3
 TRUSTED_MARGIN = 1e-6
 # ... an untrusted one this fraction (Nocedal & Wright §3.5 advise such a safeguard).
 MARGIN = 0.1
-# Zoom: bisect when two trials shrank the bracket by less than this factor (Moré–Thuente δ = 0.66).
-BISECT_UNLESS_SHRUNK = 0.66
 # Zoom: a value this many units of rounding above φ(t_lo) is a tie, decided by the slope.
 VALUE_TIE = 10.0
-# Zoom: a non-finite end is replaced by a trial this fraction of the way from the good end.
-NON_FINITE_SHRINK = 0.1
 
 
 class Wolfe(StepController):
