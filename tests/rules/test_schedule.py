@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from linestep._step import Evaluations, Status
@@ -78,38 +78,32 @@ def _non_increasing(schedule, k):
     return schedule.size_at(k + 1) <= schedule.size_at(k) * (1 + 1e-12)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, factor=UNIT, every=st.integers(1, 50), k=KS)
 def test_step_decay_never_increases(initial, factor, every, k):
     assert _non_increasing(Schedule.step_decay(initial, factor=factor, every=every), k)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, rate=UNIT, k=KS)
 def test_exponential_never_increases(initial, rate, k):
     assert _non_increasing(Schedule.exponential(initial, rate=rate), k)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, rate=st.floats(0.0, 100.0), power=st.floats(0.1, 5.0), k=KS)
 def test_robbins_monro_never_increases(initial, rate, power, k):
     assert _non_increasing(Schedule.robbins_monro(initial, rate=rate, power=power), k)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, ratio=UNIT, steps=st.integers(1, 500), power=st.floats(0.1, 5.0), k=KS)
 def test_taper_never_increases(initial, ratio, steps, power, k):
     schedule = Schedule.taper(initial, final=initial * ratio, steps=steps, power=power)
     assert _non_increasing(schedule, k)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, ratio=UNIT, period=st.integers(1, 500), k=KS)
 def test_cosine_without_restarts_never_increases(initial, ratio, period, k):
     assert _non_increasing(Schedule.cosine(initial, final=initial * ratio, period=period), k)
 
 
-@settings(deadline=None, max_examples=60)
 @given(initial=SIZES, ratio=UNIT, period=st.integers(1, 50), growth=st.integers(1, 3),
        k=st.integers(0, 2000))
 def test_cosine_sizes_stay_between_final_and_initial(initial, ratio, period, growth, k):

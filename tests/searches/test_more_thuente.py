@@ -17,7 +17,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import example, given, settings
+from hypothesis import example, given
 from hypothesis import strategies as st
 
 from _problems import (
@@ -214,7 +214,6 @@ def constants():
         lambda p: (p[0], p[0] + p[1] * (0.99 - p[0])))
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 8), log_condition=st.floats(0, 6),
        scale=st.floats(-3, 3), pair=constants())
 # c1 = 1/2 on a quadratic whose exact minimiser is t = 1: φ(1) = φ(0) + c1·φ'(0)
@@ -230,7 +229,6 @@ def test_strong_wolfe_on_random_quadratics(seed, n, log_condition, scale, pair):
     assert_strong_wolfe(step, fun(x), float(grad(x) @ d), c1, c2, direction=d)
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6), scale=st.floats(-2, 2),
        pair=constants())
 def test_strong_wolfe_on_nonconvex_functions(seed, n, scale, pair):

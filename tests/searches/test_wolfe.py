@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from linestep import Status
@@ -115,7 +115,6 @@ def test_same_conditions_as_scipy(table):
 
 
 # -- properties --------------------------------------------------------------------------
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 8), log_condition=st.floats(0, 6),
        scale=st.floats(-3, 3), pair=constants(), strong=st.booleans())
 def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pair, strong):
@@ -128,7 +127,6 @@ def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pa
     assert_wolfe(step, fun(x), float(grad(x) @ d), c1, c2, strong, direction=d)
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6), scale=st.floats(-2, 2),
        pair=constants(), strong=st.booleans())
 def test_wolfe_conditions_on_nonconvex_functions(seed, n, scale, pair, strong):
