@@ -79,6 +79,17 @@ class ScaledTrial(Rebuilds):
     ----------
     length : float
         Distance in x that the first trial moves.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import Armijo, ScaledTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> step = Armijo(initial=ScaledTrial(length=0.5))((f, g), x, -g(x))
+    >>> step.size   # 0.5 / ‖d‖₂ = 0.5 / 10: x moves by a distance of 0.5
+    0.05
     """
 
     def __init__(self, length: float = 1.0) -> None:
@@ -105,6 +116,22 @@ class PreviousTrial(Rebuilds):
         Used before any step has been accepted.
     max_size : float
         Upper bound on the trial.
+
+    Examples
+    --------
+    The second call starts from the step the first one accepted:
+
+    >>> import numpy as np
+    >>> from linestep import Armijo, PreviousTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> search = Armijo(initial=PreviousTrial(), record_trials=True)
+    >>> x = np.array([3.0, -4.0])
+    >>> [trial.size for trial in search((f, g), x, -g(x)).trials]
+    [1.0, 0.5]
+    >>> x = np.array([4.0, -3.0])
+    >>> [trial.size for trial in search((f, g), x, -g(x)).trials]
+    [0.5]
     """
 
     def __init__(self, *, growth: float = 1.0, first: Any = 1.0,
@@ -134,6 +161,23 @@ class QuadraticTrial(Rebuilds):
         Used before any step has been accepted.
     cap : float
         Upper bound on the trial (``inf`` for none).
+
+    Examples
+    --------
+    After f fell from 25 to 16 with φ'(0) = −6.4, the next first trial is
+    1.01·2·(16 − 25)/(−6.4):
+
+    >>> import numpy as np
+    >>> from linestep import Armijo, QuadraticTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> search = Armijo(initial=QuadraticTrial(), record_trials=True)
+    >>> x = np.array([3.0, -4.0])
+    >>> first = search((f, g), x, -0.1 * g(x))
+    >>> first.trials[0].size, first.value
+    (1.0, 16.0)
+    >>> [round(trial.size, 4) for trial in search((f, g), first.x, -0.1 * g(first.x)).trials]
+    [2.8406]
     """
 
     # N&W §3.5 recommend a slight enlargement so the unit step is eventually tried.

@@ -11,6 +11,7 @@ from linestep import _array, _initial, _validate
 from linestep._constants import DIRECTION_RTOL
 from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
+from linestep._rebuild import call
 from linestep._step import Status
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
@@ -22,14 +23,16 @@ _NAME = "BarzilaiBorwein"
 _VARIANTS = ("long", "short", "alternate")
 
 
-class _Raydan:
-    """Stands for the default `globalize`: a fresh NonmonotoneArmijo(memory=10) each time."""
+class _DefaultGlobalization:
+    """Stands for the default `globalize` in the signature: Raydan's (1997) nonmonotone
+    search, built afresh for each controller (a shared default instance would share its
+    reference values between controllers)."""
 
     def __repr__(self) -> str:
-        return "NonmonotoneArmijo(reference='max', memory=10)"
+        return call("NonmonotoneArmijo", [("reference", "max"), ("memory", 10)])
 
 
-_RAYDAN = _Raydan()
+_DEFAULT_GLOBALIZATION = _DefaultGlobalization()
 
 
 class BarzilaiBorwein(StepController):
@@ -123,7 +126,7 @@ class BarzilaiBorwein(StepController):
 
     def __init__(self, *, variant: str = "alternate", first: Any = None,
                  min_size: float = 1e-10, max_size: float = 1e10,
-                 globalize: Any = _RAYDAN) -> None:
+                 globalize: Any = _DEFAULT_GLOBALIZATION) -> None:
         super().__init__()
         self.variant = _validate.choice("variant", variant, _VARIANTS)
         self.first = _initial.resolve(_initial.ScaledTrial() if first is None else first,
@@ -136,7 +139,7 @@ class BarzilaiBorwein(StepController):
                 f"`min_size` must not exceed `max_size`; got min_size={min_size!r}, "
                 f"max_size={max_size!r}."
             )
-        if globalize is _RAYDAN:
+        if globalize is _DEFAULT_GLOBALIZATION:
             globalize = NonmonotoneArmijo(reference="max", memory=10)
         elif globalize is not None and not isinstance(globalize, StepController):
             raise TypeError(

@@ -32,19 +32,9 @@ class Polyak(StepController):
     first-order model f(x) + t·φ'(0) reaches f_lev.
 
     The target is `f_min` when given (Polyak's choice f_lev = f*). Otherwise it
-    is adapted by the path-based level rule of Goffin and Kiwiel (1999), also
-    analysed by Nedić and Bertsekas (2001). With f_k the value at the start of
-    call k, f_rec the lowest f_k so far, and a *group* of calls sharing one
-    reference value r and gap δ:
-
-    * if f_k ≤ r − δ/2 (enough descent), a new group starts: r = f_rec, same δ;
-    * else if the path length Σ t·‖d‖ since the group started exceeds
-      `path_bound`, a new group starts with r = f_rec and δ halved;
-    * the target is f_lev = r − δ.
-
-    For convex f with bounded subgradients and f* finite this gives
-    inf_k f(x_k) = f* for any path bound (Goffin and Kiwiel 1999; recalled
-    from memory). The values need not decrease: keep the best point yourself.
+    is adapted between calls by the path-based level rule of Goffin and Kiwiel
+    (1999), described under Notes; the values then need not decrease, so keep
+    the best point yourself.
 
     The new point is evaluated once as a guard. A rise in f is *accepted*: the
     Polyak step brings x closer to the minimisers of a convex f (for f_min = f*),
@@ -75,14 +65,6 @@ class Polyak(StepController):
         ``not_descent`` does not occur: a direction other than c·(−∇f) raises.
         A zero gradient gives ``accepted`` with size 0.
 
-    Notes
-    -----
-    Proof of the known-f* bounds (Polyak 1987, §5.3): for convex f and
-    x* a minimiser, the step gives
-    ‖x_{k+1} − x*‖² ≤ ‖x_k − x*‖² − (f_k − f*)²/‖g_k‖², hence with R = ‖x_0 − x*‖
-    min_{k<K} f_k − f* ≤ G·R/√K when ‖g_k‖ ≤ G, and ≤ 2·L·R²/K when ∇f is
-    L-Lipschitz (‖g_k‖² ≤ 2L(f_k − f*); Hazan and Kakade 2019).
-
     References
     ----------
     B. T. Polyak, *Introduction to Optimization*, Optimization Software, 1987,
@@ -107,6 +89,27 @@ class Polyak(StepController):
     (0.25, array([ 1., -1.]))
     >>> Polyak(f_min=10.0)((f, g), x, -g(x)).status
     Status.target_met
+
+    Notes
+    -----
+    The adaptive target (Goffin and Kiwiel 1999, also analysed by Nedić and
+    Bertsekas 2001). With f_k the value at the start of call k, f_rec the lowest
+    f_k so far, and a *group* of calls sharing one reference value r and gap δ:
+
+    * if f_k ≤ r − δ/2 (enough descent), a new group starts: r = f_rec, same δ;
+    * else if the path length Σ t·‖d‖ since the group started exceeds
+      `path_bound`, a new group starts with r = f_rec and δ halved;
+    * the target is f_lev = r − δ.
+
+    For convex f with bounded subgradients and f* finite this gives
+    inf_k f(x_k) = f* for any path bound (Goffin and Kiwiel 1999; recalled
+    from memory).
+
+    Proof of the known-f* bounds (Polyak 1987, §5.3): for convex f and
+    x* a minimiser, the step gives
+    ‖x_{k+1} − x*‖² ≤ ‖x_k − x*‖² − (f_k − f*)²/‖g_k‖², hence with R = ‖x_0 − x*‖
+    min_{k<K} f_k − f* ≤ G·R/√K when ‖g_k‖ ≤ G, and ≤ 2·L·R²/K when ∇f is
+    L-Lipschitz (‖g_k‖² ≤ 2L(f_k − f*); Hazan and Kakade 2019).
     """
 
     _fields = ("f_min", "max_size", "gap", "path_bound")
