@@ -78,6 +78,10 @@ class Outcome:
 # call on the accepted path (benchmarks/call_instructions.py). The hot path reads these.
 _ACCEPTED = Status.accepted
 _ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
+# Likewise measured: reading `np.ndarray` and `_initial.ConstantTrial` at each call costs
+# ~670 instructions per call more than these module globals (numpy's module __getattr__).
+_NDARRAY = np.ndarray
+_CONSTANT = _initial.ConstantTrial
 
 _SLOPE_OVERFLOW = (
     "The slope gradient·direction overflows the float range; x is unchanged. The "
@@ -114,7 +118,7 @@ class StepController(Rebuilds):
             objective = as_objective(objective)
         start_values, start_gradients = objective.values, objective.gradients
         if (value is not None
-                and x.__class__ is direction.__class__ is gradient.__class__ is np.ndarray
+                and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
                 and x.ndim == direction.ndim == gradient.ndim == 1
                 and x.dtype is direction.dtype is gradient.dtype and x.dtype.kind == "f"
                 and len(x) == len(direction) == len(gradient)):
@@ -138,7 +142,7 @@ class StepController(Rebuilds):
                   self.record_trials)
         try:
             initial = self.initial  # a constant first trial skips the strategy call
-            outcome = self._search(ray, initial.size if initial.__class__ is _initial.ConstantTrial
+            outcome = self._search(ray, initial.size if initial.__class__ is _CONSTANT
                                    else self._first_trial(ray))
         except BudgetSpent:
             outcome = Outcome(ray.best, Status.max_evaluations)
@@ -158,7 +162,7 @@ class StepController(Rebuilds):
 
     def _first_trial(self, ray: Ray) -> float:
         initial = self.initial
-        if initial.__class__ is _initial.ConstantTrial:  # validated positive and finite
+        if initial.__class__ is _CONSTANT:  # validated positive and finite
             return initial.size
         guess = initial.guess(self._memory, ray)
         if 0.0 < guess < math.inf:

@@ -27,6 +27,7 @@ from linestep._step import Trial
 # Relative spacing of float64; a step below ~EPS·‖x‖/‖d‖ no longer moves x.
 EPS = 2.220446049250313e-16
 INF = math.inf
+_NDARRAY = np.ndarray
 
 
 class BudgetSpent(Exception):
@@ -137,7 +138,7 @@ class Ray:
         value, gradient = objective.value_and_gradient(x_new)
         if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
             slope = (float(gradient.dot(direction))
-                     if gradient.__class__ is np.ndarray and gradient.ndim == 1
+                     if gradient.__class__ is _NDARRAY and gradient.ndim == 1
                      else _array.dot(gradient, direction))
             if isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
