@@ -11,7 +11,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from _problems import random_spd
@@ -164,7 +164,6 @@ def test_reset_forgets_everything(make):
 # ----------------------------------------------------------- L-BFGS: the two-loop product
 
 
-@settings(deadline=None, max_examples=60)
 @given(n=st.integers(1, 6), pairs=st.integers(1, 9), memory=st.integers(1, 8),
        seed=st.integers(0, 2**32 - 1))
 def test_two_loop_matches_explicit_bfgs_product(n, pairs, memory, seed):
@@ -398,7 +397,6 @@ def test_hager_zhang_restarts_when_d_y_is_not_positive():
     assert direction.restarted
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6))
 def test_hager_zhang_direction_has_sufficient_descent(seed, n):
     # Hager & Zhang 2005, Thm 1.1 (recalled from memory): with β = β_N and dᵀy ≠ 0,

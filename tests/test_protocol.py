@@ -27,7 +27,7 @@ def _factories() -> dict[str, object]:
         "Fallback": lambda: linestep.Fallback(linestep.Fixed(0.1), linestep.Armijo()),
     }
     optional = {
-        "Schedule": lambda: linestep.Schedule.inverse_time(0.4, rate=0.01),
+        "Schedule": lambda: linestep.Schedule.robbins_monro(0.4, rate=0.01),
         "Wolfe": lambda: linestep.Wolfe(),
         "MoreThuente": lambda: linestep.MoreThuente(),
         "HagerZhang": lambda: linestep.HagerZhang(),
@@ -87,7 +87,7 @@ def test_returns_a_step_whose_counts_match_the_objective(name):
     assert isinstance(step.status, Status)
     assert step.evaluations == objective.evaluations - before
     # An ordinary frozen Step, equal to one built by its constructor (the base class
-    # builds it more cheaply; see `_controller._step`).
+    # builds it more cheaply; see `_step.step_from`).
     assert step == Step(**{name: getattr(step, name) for name in Step.__slots__})
     with pytest.raises(dataclasses.FrozenInstanceError):
         step.size = 2.0
@@ -139,36 +139,121 @@ def test_stationary_point_is_kept(name):
     assert "stationary" in step.message
 
 
+# -- a failed step never makes f worse -----------------------------------------------------
+# An inexact gradient claims descent along d = [−1, 0] (φ'(0) = −1), but f rises along d
+# (φ(t) = 1 + 2t) and is NaN beyond t = 1e-4. No controller can accept anything: every
+# finite trial is worse than x, every longer one is not finite. (Invented case.)
+_CLAIMED_GRADIENT = np.array([1.0, 0.0])
+_RISING_START = np.array([0.5, 0.25])
+
+
+def _rising(x):
+    moved = 0.5 - float(x[0])
+    if moved > 1e-4:
+        return math.nan
+    return 1.0 + 2.0 * abs(moved) + (float(x[1]) - 0.25) ** 2
+
+
+def _rising_gradient(x):
+    moved = 0.5 - float(x[0])
+    return np.array([-2.0 if moved > 0 else 2.0, 2.0 * (float(x[1]) - 0.25)])
+
+
+def check_failed_step_never_worse(controller):
+    start = _RISING_START
+    step = controller((_rising, _rising_gradient), start, -_CLAIMED_GRADIENT, value=1.0,
+                      gradient=_CLAIMED_GRADIENT)
+    assert not step.ok, "the case must make the controller fail"
+    assert np.all(np.isfinite(step.x))
+    assert _rising(step.x) <= _rising(start)
+
+
 @parametrize
 def test_a_failed_step_never_makes_f_worse(name):
-    # A direction so long that every trial overshoots: f is never allowed to rise
-    # unless the controller accepts the rise by design (a fixed or scheduled rate).
-    controller = FACTORIES[name]()
-    fun, grad = quadratic(scale=1e6)
-    x = np.array([1.5, 0.5])
-    step = controller((fun, grad), x, -grad(x))
-    assert np.all(np.isfinite(step.x))
-    if not step.ok:
-        assert fun(step.x) <= fun(x)
+    check_failed_step_never_worse(FACTORIES[name]())
 
 
-@parametrize
-def test_non_finite_region_shrinks_the_step(name):
-    # f is NaN beyond distance 1 of the origin; the direction points far past it.
+class _ReturnsItsLastTrial:
+    """Deliberately wrong: on failure it moves to its last finite trial, which is worse."""
+
+    def __call__(self, objective, x, direction, *, value=None, gradient=None):
+        size = 1e-5  # a finite trial, where f has risen
+        new = x + size * direction
+        return Step(size=size, x=new, value=_rising(new), gradient=None,
+                    evaluations=linestep.Evaluations(values=1), status=Status.step_too_small,
+                    message="gave up")
+
+    def reset(self):
+        pass
+
+
+def test_the_failed_step_check_catches_a_controller_that_worsens_f():
+    with pytest.raises(AssertionError):
+        check_failed_step_never_worse(_ReturnsItsLastTrial())
+
+
+# -- a non-finite region shrinks the step ------------------------------------------------
+# f = ‖x‖² is NaN outside the ball of radius 0.3; from x = [0.2, 0.1] along −40·∇f(x)
+# (or, for Barzilai–Borwein's first step, a distance of 1 in x) every controller's first
+# trial lands outside it. (Invented case.)
+_BALL_START = np.array([0.2, 0.1])
+# Controllers that accept a rise in f by design: for them only finiteness is required.
+RISE_ACCEPTED = {"Fixed", "Schedule", "Polyak"}
+# The suite's Polyak(f_min=0) would stop inside the ball; a target far below f makes
+# its step overshoot into the NaN region like the others.
+_OVERSHOOTING = {"Polyak": lambda: linestep.Polyak(f_min=-100.0)}
+
+
+def check_non_finite_region(controller, *, rise_accepted):
+    non_finite = []
+
     def fun(x):
-        return float(x @ x) if float(x @ x) < 1.0 else math.nan
+        value = float(x @ x)
+        if value < 0.09:
+            return value
+        non_finite.append(value)
+        return math.nan
 
     def grad(x):
         return 2 * x
 
-    controller = FACTORIES[name]()
-    x = np.array([0.5, 0.25])
+    x = _BALL_START
     step = controller((fun, grad), x, -40.0 * grad(x))
+    assert non_finite, "the case must send a trial into the non-finite region"
     assert np.all(np.isfinite(step.x))
     if step.size > 0:
-        assert math.isfinite(step.value) and step.value <= fun(x) + 1e-12 or step.ok
+        assert math.isfinite(fun(step.x))
+        assert step.value == fun(step.x)
+        if not rise_accepted:
+            assert step.value <= fun(x)
     else:
         np.testing.assert_array_equal(step.x, x)
+        assert not step.ok
+
+
+@parametrize
+def test_non_finite_region_shrinks_the_step(name):
+    controller = _OVERSHOOTING.get(name, FACTORIES[name])()
+    check_non_finite_region(controller, rise_accepted=name in RISE_ACCEPTED)
+
+
+class _TakesTheFirstTrial:
+    """Deliberately wrong: accepts its first trial without looking at its value."""
+
+    def __call__(self, objective, x, direction, *, value=None, gradient=None):
+        new = x + direction
+        fun = objective[0]  # the checks pass (fun, grad)
+        return Step(size=1.0, x=new, value=fun(new), gradient=None,
+                    evaluations=linestep.Evaluations(values=1), status=Status.accepted,
+                    message="took it")
+
+    def reset(self):
+        pass
+
+
+def test_the_non_finite_check_catches_a_controller_that_ignores_nan():
+    with pytest.raises(AssertionError):
+        check_non_finite_region(_TakesTheFirstTrial(), rise_accepted=True)
 
 
 @parametrize

@@ -7,7 +7,7 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
@@ -701,7 +701,6 @@ finite = st.floats(min_value=-1e6, max_value=1e6, allow_nan=False, allow_infinit
 shapes = hnp.array_shapes(min_dims=0, max_dims=3, min_side=1, max_side=4)
 
 
-@settings(deadline=None, max_examples=200)
 @given(
     gradient=hnp.arrays(np.float64, shapes, elements=finite),
     start=hnp.arrays(np.float64, shapes, elements=finite),

@@ -10,15 +10,25 @@ implementers:
    the initial trial step from the controller's ``initial`` strategy.
 2. It evaluates only through the ray (``ray.value(t)``,
    ``ray.value_and_slope(t)``) and never counts evaluations itself.
-3. It returns ``(point, status)`` or ``(point, status, message)``: the ray
-   `Point` to move to, or None to leave x unchanged; a `Status`; an optional
-   sentence replacing the status's default message.
+3. It returns an `Outcome`: ``Outcome(point, status)`` or
+   ``Outcome(point, status, message)`` with the ray `Point` to move to (None to
+   leave x unchanged), a `Status`, and an optional sentence replacing the
+   status's default message.
 4. It never builds a `Step` and never raises for numeric trouble; the ray
    raises `BudgetSpent` when the budget is gone and the base returns the best
    sufficient-decrease point found (or x unchanged) with `max_evaluations`.
 5. State carried between calls lives on the instance and `_reset_state()`
    clears it; the base keeps a `Memory` of the last accepted step for the
    initial-step strategies.
+6. A composite controller (one built from other controllers, such as
+   `Fallback` or `BarzilaiBorwein`) runs a member on its own ray with
+   ``self._delegate(member, ray)``, which does for the member what `__call__`
+   does for a top-level controller: the member's first trial, its hook and its
+   memory. It never calls a member's private methods itself, and it sums the
+   members' `max_evaluations` into its own (the ray enforces one budget).
+7. The constructor validates every argument with `linestep._validate` and
+   lists the constructor's arguments in ``_fields`` (keywords) or
+   ``_positional`` so that `repr` rebuilds the object (`linestep._rebuild`).
 
 One instance serves one loop: when a call brings another problem (the code of
 the objective's callables, or x's shape or dtype, differs from the first call
@@ -38,52 +48,46 @@ import numpy as np
 from linestep import _array, _initial, _validate
 from linestep._objective import Objective, as_objective
 from linestep._ray import BudgetSpent, Point, Ray
-from linestep._step import MESSAGES, Evaluations, Status, Step
+from linestep._rebuild import Rebuilds
+from linestep._step import MESSAGES, Status, Step, step_from
 
-_NDARRAY = np.ndarray
-_CONSTANT = _initial.ConstantTrial
-_ACCEPTED = Status.accepted
-_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
-# Evaluations records are immutable, so the common small counts are shared
-# (_EVALUATIONS[values][gradients]).
-_SHARED = 32
-_EVALUATIONS = [[Evaluations(values=v, gradients=g) for g in range(_SHARED)]
-                for v in range(_SHARED)]
+__all__ = ["Outcome", "StepController"]
 
 
-class _StepDraft:
-    """A mutable twin of the frozen `Step`, with the same slots, used only by `_step`.
+class Outcome:
+    """What a controller's `_search` hook returns: where to move, why, and in what words.
 
-    Step is a frozen slots dataclass; its generated __init__ writes each field
-    through object.__setattr__, which costs more than a whole accepted unit-step
-    search spends in its own logic. `_step` fills a draft with plain attribute
-    writes and then makes it a Step: Python allows assigning ``__class__``
-    between classes whose instances have the same slot layout. The result is an
-    ordinary, frozen Step.
+    Parameters
+    ----------
+    point : Point or None
+        The ray point to move to; None leaves x unchanged.
+    status : Status
+        Why the search stopped.
+    message : str or None
+        A sentence replacing the status's default message, or None for the default.
     """
 
-    __slots__ = Step.__slots__
+    __slots__ = ("point", "status", "message")
+
+    def __init__(self, point: Point | None, status: Status, message: str | None = None):
+        self.point = point
+        self.status = status
+        self.message = message
+
+    def __repr__(self) -> str:
+        return f"Outcome({self.point!r}, {self.status!r}, {self.message!r})"
 
 
-def _step(point: Point, values: int, gradients: int, status: Status, message: str,
-          trials: Any) -> Step:
-    """The Step moving to `point` (the origin for x unchanged) after that many evaluations."""
-    if values < _SHARED and gradients < _SHARED:
-        evaluations = _EVALUATIONS[values][gradients]
-    else:
-        evaluations = Evaluations(values=values, gradients=gradients)
-    step = _StepDraft()
-    step.size = point.size
-    step.x = point.x
-    step.value = point.value
-    step.gradient = point.gradient
-    step.evaluations = evaluations
-    step.status = status
-    step.message = message
-    step.trials = trials
-    step.__class__ = Step
-    return step
-
+# Measured, not nanoseconds: on Python 3.11 reading an enum member from its class
+# (`Status.accepted`) goes through EnumType's __getattr__ hook, and an enum's __hash__
+# (a `MESSAGES[...]` lookup) is Python code; together they cost ~2,000 instructions per
+# call on the accepted path (benchmarks/call_instructions.py). The hot path reads these.
+_ACCEPTED = Status.accepted
+_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
+# Likewise measured: reading `np.ndarray` and `_initial.ConstantTrial` at each call costs
+# ~670 instructions per call more than these module globals (numpy's module __getattr__).
+_NDARRAY = np.ndarray
+_CONSTANT = _initial.ConstantTrial
 
 _SLOPE_OVERFLOW = (
     "The slope gradient·direction overflows the float range; x is unchanged. The "
@@ -105,7 +109,7 @@ def _slope_underflows(gradient: Any, direction: Any) -> bool:
     return _array.dot(gradient / g_scale, direction / d_scale) < 0.0
 
 
-class StepController:
+class StepController(Rebuilds):
     """Base class of all linestep controllers; see the module docstring for the contract."""
 
     #: Whether φ'(0) is required (searches) or optional (rules).
@@ -125,13 +129,6 @@ class StepController:
     def __init__(self) -> None:
         self._memory = _initial.Memory()
         self.initial: Any = _initial.UnitTrial()
-
-    #: Constructor arguments shown by repr, in order (each is an attribute).
-    _fields: tuple[str, ...] = ()
-
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{type(self).__name__}({arguments})"
 
     # -- public protocol ---------------------------------------------------------
     def __call__(self, objective: Any, x: Any, direction: Any, *, value: Any = None,
@@ -170,7 +167,7 @@ class StepController:
             outcome = self._search(ray, initial.size if initial.__class__ is _CONSTANT
                                    else self._first_trial(ray))
         except BudgetSpent:
-            outcome = (ray.best, Status.max_evaluations)
+            outcome = Outcome(ray.best, Status.max_evaluations)
         return self._finish(ray, outcome, start_values, start_gradients)
 
     def reset(self) -> None:
@@ -204,7 +201,7 @@ class StepController:
         self._objective, self._problem = objective, problem
 
     # -- hooks -------------------------------------------------------------------
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         raise NotImplementedError
 
     def _reset_state(self) -> None:
@@ -212,7 +209,7 @@ class StepController:
 
     def _first_trial(self, ray: Ray) -> float:
         initial = self.initial
-        if initial.__class__ is _CONSTANT:  # validated positive and finite when built
+        if initial.__class__ is _CONSTANT:  # validated positive and finite
             return initial.size
         guess = initial.guess(self._memory, ray)
         if 0.0 < guess < math.inf:
@@ -226,6 +223,25 @@ class StepController:
             memory.size = point.size
             memory.start_value = origin.value
             memory.slope = origin.slope
+
+    # -- composites ------------------------------------------------------------------
+    def _delegate(self, member: StepController, ray: Ray, *, first: float | None = None,
+                  at_most: float | None = None) -> Outcome:
+        """Run `member`'s search on this call's `ray`, as `__call__` would run it alone.
+
+        The member's first trial comes from its own ``initial`` strategy unless
+        `first` is given, and is capped at `at_most` when that is given and
+        positive; its memory of accepted steps is updated as after a call of its
+        own. Evaluations count against the one ray budget, and `BudgetSpent`
+        propagates to the base. Returns the member's `Outcome`.
+        """
+        if first is None:
+            first = member._first_trial(ray)
+        if at_most is not None and 0.0 < at_most < first:
+            first = at_most
+        outcome = member._search(ray, first)
+        member._remember(ray, outcome.point, outcome.status)
+        return outcome
 
     # -- bookkeeping ---------------------------------------------------------------
     def _origin(self, objective: Objective, x: Any, direction: Any, value: Any,
@@ -276,14 +292,13 @@ class StepController:
             raise _validate.not_negative_gradient(type(self).__name__)
         else:
             status, message = Status.not_descent, MESSAGES[Status.not_descent]
-        return _step(origin, objective.values - start_values,
-                     objective.gradients - start_gradients, status, message,
-                     () if self.record_trials else None)
+        return step_from(origin, objective.values - start_values,
+                         objective.gradients - start_gradients, status, message,
+                         () if self.record_trials else None)
 
-    def _finish(self, ray: Ray, outcome: tuple, start_values: int,
+    def _finish(self, ray: Ray, outcome: Outcome, start_values: int,
                 start_gradients: int) -> Step:
-        point, status = outcome[0], outcome[1]
-        message = outcome[2] if len(outcome) > 2 else None
+        point, status, message = outcome.point, outcome.status, outcome.message
         if status is not _ACCEPTED or point is None or not point.value < math.inf:
             point, status = _settle(ray, point, status)
         if status is _ACCEPTED:
@@ -293,9 +308,9 @@ class StepController:
         elif message is None:
             message = MESSAGES[status]
         objective, trials = ray.objective, ray.trials
-        return _step(point, objective.values - start_values,
-                     objective.gradients - start_gradients, status, message,
-                     None if trials is None else tuple(trials))
+        return step_from(point, objective.values - start_values,
+                         objective.gradients - start_gradients, status, message,
+                         None if trials is None else tuple(trials))
 
 
 def _code(fun: Any) -> Any:
@@ -314,13 +329,13 @@ def _settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Statu
     origin = ray.origin
     if point is not None and (
         not point.value < math.inf
-        or (status is not _ACCEPTED and origin.value is not None
+        or (status is not Status.accepted and origin.value is not None
             and point.value > origin.value)
     ):
         # A failed search never moves the user's point to a worse or non-finite place.
         point = None
     if point is None:
-        if status is not _ACCEPTED and ray.count and not ray.finite_seen:
+        if status is not Status.accepted and ray.count and not ray.finite_seen:
             status = Status.non_finite
         point = origin
     return point, status

@@ -69,7 +69,7 @@ def _controllers(problem: Calibration) -> list[tuple[str, Callable[[], object]]]
         lambda: Fixed(TOO_LARGE_RATE),
         lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo()),
         lambda: Armijo(),
-        lambda: Schedule.inverse_time(safe, rate=0.01),
+        lambda: Schedule.robbins_monro(safe, rate=0.01),
     ]
     return [(short_label(build()), build) for build in builds]
 

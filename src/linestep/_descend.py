@@ -40,6 +40,17 @@ class History:
         The direction fell back to steepest descent in that iteration.
     status : tuple of str
         The controller's status name per iteration ("start" for entry 0).
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import descend
+    >>> history = descend((lambda x: float(x @ x), lambda x: 2 * x),
+    ...                   np.array([3.0, -4.0])).history
+    >>> history.value, history.size, history.status
+    (array([25.,  0.]), array([0. , 0.5]), ('start', 'accepted'))
+    >>> history.values, history.gradients   # cumulative evaluations
+    (array([1, 3]), array([1, 2]))
     """
 
     value: np.ndarray
@@ -66,6 +77,18 @@ class Run:
     evaluations : Evaluations
         Totals over the run, the start point included.
     history : History
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import descend
+    >>> run = descend((lambda x: float(x @ x), lambda x: 2 * x), np.array([3.0, -4.0]))
+    >>> run.converged, run.iterations, run.value, run.x
+    (True, 1, 0.0, array([0., 0.]))
+    >>> run.evaluations
+    Evaluations(values=3, gradients=2)
+    >>> run.verdict.kind
+    Kind.converged
     """
 
     x: Any

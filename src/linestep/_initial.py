@@ -16,6 +16,7 @@ import math
 from typing import Any
 
 from linestep import _array, _validate
+from linestep._rebuild import Rebuilds
 
 __all__ = ["PreviousTrial", "QuadraticTrial", "ScaledTrial", "UnitTrial"]
 
@@ -31,7 +32,7 @@ class Memory:
         self.slope: float | None = None  # φ'(0) at that call
 
 
-class UnitTrial:
+class UnitTrial(Rebuilds):
     """Always try t = 1 first: the natural scale of Newton and quasi-Newton directions.
 
     Examples
@@ -40,9 +41,6 @@ class UnitTrial:
     >>> Armijo(initial=UnitTrial())
     Armijo(c1=0.0001, shrink=0.5, interpolation='cubic', shrink_limits=(0.1, 0.5), initial=UnitTrial(), max_evaluations=40, record_trials=False)
     """  # noqa: E501
-
-    def __repr__(self) -> str:
-        return "UnitTrial()"
 
     def __eq__(self, other: object) -> bool:
         return type(other) is type(self)
@@ -54,7 +52,10 @@ class UnitTrial:
 
 
 class ConstantTrial:
-    """A fixed first trial (what a plain number passed as ``initial=`` means)."""
+    """A fixed first trial (what a plain number passed as ``initial=`` means).
+
+    Its repr is the number itself, since the number is what rebuilds it.
+    """
 
     __slots__ = ("size",)
 
@@ -68,7 +69,7 @@ class ConstantTrial:
         return self.size
 
 
-class ScaledTrial:
+class ScaledTrial(Rebuilds):
     """First trial of length `length` in x: t = length / ‖d‖₂.
 
     With d = −∇f this is the "scaled first step from ‖g₀‖" used when nothing is
@@ -78,20 +79,30 @@ class ScaledTrial:
     ----------
     length : float
         Distance in x that the first trial moves.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import Armijo, ScaledTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> step = Armijo(initial=ScaledTrial(length=0.5))((f, g), x, -g(x))
+    >>> step.size   # 0.5 / ‖d‖₂ = 0.5 / 10: x moves by a distance of 0.5
+    0.05
     """
 
     def __init__(self, length: float = 1.0) -> None:
         self.length = _validate.positive("length", length)
 
-    def __repr__(self) -> str:
-        return f"ScaledTrial(length={self.length!r})"
+    _fields = ("length",)
 
     def guess(self, memory: Memory, ray: Any) -> float:
         norm = _array.norm2(ray.direction)
         return self.length / norm if norm > 0 else 1.0
 
 
-class PreviousTrial:
+class PreviousTrial(Rebuilds):
     """Start from the previous accepted step, times `growth`.
 
     `growth` > 1 lets the step recover after backtracking shrank it (the
@@ -105,6 +116,22 @@ class PreviousTrial:
         Used before any step has been accepted.
     max_size : float
         Upper bound on the trial.
+
+    Examples
+    --------
+    The second call starts from the step the first one accepted:
+
+    >>> import numpy as np
+    >>> from linestep import Armijo, PreviousTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> search = Armijo(initial=PreviousTrial(), record_trials=True)
+    >>> x = np.array([3.0, -4.0])
+    >>> [trial.size for trial in search((f, g), x, -g(x)).trials]
+    [1.0, 0.5]
+    >>> x = np.array([4.0, -3.0])
+    >>> [trial.size for trial in search((f, g), x, -g(x)).trials]
+    [0.5]
     """
 
     def __init__(self, *, growth: float = 1.0, first: Any = 1.0,
@@ -113,9 +140,7 @@ class PreviousTrial:
         self.first = resolve(first, name="first")
         self.max_size = _validate.positive("max_size", max_size, allow_inf=True)
 
-    def __repr__(self) -> str:
-        return (f"PreviousTrial(growth={self.growth!r}, first={self.first!r}, "
-                f"max_size={self.max_size!r})")
+    _fields = ("growth", "first", "max_size")
 
     def guess(self, memory: Memory, ray: Any) -> float:
         if memory.size is None:
@@ -123,7 +148,7 @@ class PreviousTrial:
         return min(self.growth * memory.size, self.max_size)
 
 
-class QuadraticTrial:
+class QuadraticTrial(Rebuilds):
     """Nocedal & Wright eq. 3.60: t₀ = 2 (f_k − f_{k−1}) / φ'(0), capped.
 
     The quadratic through f_{k−1}, f_k and φ'(0), assuming the decrease repeats.
@@ -136,6 +161,23 @@ class QuadraticTrial:
         Used before any step has been accepted.
     cap : float
         Upper bound on the trial (``inf`` for none).
+
+    Examples
+    --------
+    After f fell from 25 to 16 with φ'(0) = −6.4, the next first trial is
+    1.01·2·(16 − 25)/(−6.4):
+
+    >>> import numpy as np
+    >>> from linestep import Armijo, QuadraticTrial
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> search = Armijo(initial=QuadraticTrial(), record_trials=True)
+    >>> x = np.array([3.0, -4.0])
+    >>> first = search((f, g), x, -0.1 * g(x))
+    >>> first.trials[0].size, first.value
+    (1.0, 16.0)
+    >>> [round(trial.size, 4) for trial in search((f, g), first.x, -0.1 * g(first.x)).trials]
+    [2.8406]
     """
 
     # N&W §3.5 recommend a slight enlargement so the unit step is eventually tried.
@@ -145,8 +187,7 @@ class QuadraticTrial:
         self.first = resolve(first, name="first")
         self.cap = _validate.positive("cap", cap, allow_inf=True)
 
-    def __repr__(self) -> str:
-        return f"QuadraticTrial(first={self.first!r}, cap={self.cap!r})"
+    _fields = ("first", "cap")
 
     def guess(self, memory: Memory, ray: Any) -> float:
         if memory.start_value is None:

@@ -1,7 +1,13 @@
-"""Records returned by every controller: `Step`, `Status`, `Evaluations`, `Trial`."""
+"""Records returned by every controller: `Step`, `Status`, `Evaluations`, `Trial`.
+
+Also the one hot-path trick of the package, kept beside the record it builds:
+`step_from` makes a frozen `Step` without the frozen dataclass's ``__init__``
+(see `_StepDraft`), guarded at import time.
+"""
 
 from __future__ import annotations
 
+import dataclasses
 import enum
 from dataclasses import dataclass
 from typing import Any, Protocol, runtime_checkable
@@ -15,6 +21,18 @@ class Status(enum.Enum):
     Only `accepted` is success. In every other case the `Step` still holds a
     usable point: the best point satisfying the controller's decrease test, or
     the starting point unchanged.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import Armijo, Status
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([1.0])
+    >>> Armijo()((f, g), x, g(x)).status   # uphill: nothing is evaluated
+    Status.not_descent
+    >>> Armijo()((f, g), x, -g(x)).status is Status.accepted
+    True
     """
 
     accepted = "accepted"
@@ -68,6 +86,15 @@ class Evaluations:
     """Counts of objective evaluations.
 
     A fused value-and-gradient call counts one of each.
+
+    Examples
+    --------
+    >>> from linestep import Evaluations
+    >>> spent = Evaluations(values=3, gradients=2)
+    >>> spent.total
+    5
+    >>> spent + Evaluations(values=1)
+    Evaluations(values=4, gradients=2)
     """
 
     values: int = 0
@@ -129,6 +156,21 @@ class Step:
         One sentence a person can act on.
     trials : tuple of Trial or None
         Every point tried, in order, when the controller records trials.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from linestep import Wolfe
+    >>> f = lambda x: float(x @ x)
+    >>> g = lambda x: 2 * x
+    >>> x = np.array([3.0, -4.0])
+    >>> step = Wolfe(record_trials=True)((f, g), x, -g(x))
+    >>> step.ok, step.size, step.x, step.value
+    (True, 0.5, array([0., 0.]), 0.0)
+    >>> [trial.size for trial in step.trials]
+    [1.0, 0.5]
+    >>> step.message
+    "The step satisfies the controller's conditions."
     """
 
     size: float
@@ -155,3 +197,70 @@ class Controller(Protocol):
     ) -> Step: ...
 
     def reset(self) -> None: ...
+
+
+# -- building a Step on the hot path ------------------------------------------------------
+# Evaluations records are immutable, so the common small counts are shared
+# (SHARED_EVALUATIONS[values][gradients]).
+_SHARED = 32
+_SHARED_EVALUATIONS = [[Evaluations(values=v, gradients=g) for g in range(_SHARED)]
+                       for v in range(_SHARED)]
+
+
+class _StepDraft:
+    """A mutable twin of the frozen `Step`, with the same slots, used only by `step_from`.
+
+    `Step` is a frozen slots dataclass; its generated ``__init__`` writes each field
+    through ``object.__setattr__``, which costs more than a whole accepted unit-step
+    search spends in its own logic. `step_from` fills a draft with plain attribute
+    writes and then makes it a `Step`: Python allows assigning ``__class__`` between
+    classes whose instances have the same slot layout. The result is an ordinary,
+    frozen `Step`. This is sound only while `Step` runs no code in construction,
+    which the guard below checks when the module is imported.
+    """
+
+    __slots__ = Step.__slots__
+
+
+def step_from(point: Any, values: int, gradients: int, status: Status, message: str,
+              trials: tuple[Trial, ...] | None) -> Step:
+    """The `Step` moving to `point` (anything with ``size, x, value, gradient``)."""
+    if values < _SHARED and gradients < _SHARED:
+        evaluations = _SHARED_EVALUATIONS[values][gradients]
+    else:
+        evaluations = Evaluations(values=values, gradients=gradients)
+    step = _StepDraft()
+    step.size = point.size
+    step.x = point.x
+    step.value = point.value
+    step.gradient = point.gradient
+    step.evaluations = evaluations
+    step.status = status
+    step.message = message
+    step.trials = trials
+    step.__class__ = Step
+    return step
+
+
+def _check_draft() -> None:
+    """Refuse to import if `step_from` could build a `Step` its constructor would not."""
+    names = tuple(field.name for field in dataclasses.fields(Step))
+    if _StepDraft.__slots__ != names or set(Step.__slots__) != set(names):
+        raise ImportError("Step's slots no longer match its fields; update _StepDraft.")
+    if hasattr(Step, "__post_init__"):
+        raise ImportError("Step has a __post_init__, which step_from would skip.")
+    built = step_from(_Probe(), 1, 2, Status.accepted, "m", None)
+    expected = Step(size=0.5, x=None, value=1.0, gradient=None,
+                    evaluations=Evaluations(values=1, gradients=2),
+                    status=Status.accepted, message="m", trials=None)
+    if type(built) is not Step or built != expected:
+        raise ImportError("step_from no longer builds the Step that Step(...) builds.")
+
+
+class _Probe:
+    """Stands in for a ray point in the import-time check."""
+
+    size, x, value, gradient = 0.5, None, 1.0, None
+
+
+_check_draft()

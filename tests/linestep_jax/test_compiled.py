@@ -23,7 +23,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import example, given, settings
+from hypothesis import example, given
 from hypothesis import strategies as st
 
 jax = pytest.importorskip("jax", reason="the jax extra is not installed")
@@ -92,7 +92,6 @@ finite = st.floats(-1e3, 1e3, allow_nan=False)
 positive = st.floats(1e-3, 1e3)
 
 
-@settings(deadline=None, max_examples=60)
 @given(a=finite, fa=finite, da=finite, b=finite, fb=finite, db=finite)
 def test_cubic_and_quadratic_twins_equal_the_host_formulas(a, fa, da, b, fb, db):
     # N&W 2006 eqs. 3.57 and 3.59 (scaled form of Moré–Thuente 1994 §4).
@@ -102,7 +101,6 @@ def test_cubic_and_quadratic_twins_equal_the_host_formulas(a, fa, da, b, fb, db)
                 host_interpolate.quadratic_from_slope(a, fa, da, b, fb), a, b)
 
 
-@settings(deadline=None, max_examples=60)
 @given(f0=finite, d0=st.floats(-1e3, -1e-3), a=positive, fa=finite, b=positive, fb=finite)
 @example(f0=0.0, d0=-569.0, a=996.0, fa=1.3359375, b=998.0, fb=0.0)  # close trials
 def test_cubic_backtrack_twin_equals_the_host_formula(f0, d0, a, fa, b, fb):

@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from linestep._step import Evaluations, Status
@@ -67,7 +67,6 @@ def test_fixed_step_bound_is_set_by_the_largest_curvature():
     assert abs(above[2]) > 1e12
 
 
-@settings(deadline=None, max_examples=40)
 @given(curvature=st.floats(1e-2, 1e3), ratio=st.sampled_from([0.9, 1.1]))
 def test_fixed_step_stability_for_any_curvature(curvature, ratio):
     # t = ratio·2/L gives the factor 1 − 2·ratio: −0.8 (contracts) or −1.2 (grows).

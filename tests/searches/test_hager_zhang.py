@@ -14,7 +14,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from _problems import quadratic, quintic, rational, wiggly, yanai_ozawa_kaneko
@@ -421,7 +421,6 @@ def test_scipy_regression_case_is_not_accepted_at_the_step_cap():
 # Property tests: every accepted step meets the conditions of [HZ05] as stated.
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 12),
        log_condition=st.floats(0.0, 6.0), log_scale=st.floats(-3.0, 3.0),
        steepest=st.booleans(), log_first=st.floats(-4.0, 4.0))
@@ -439,7 +438,6 @@ def test_quadratics_accept_with_the_stated_conditions(seed, n, log_condition, lo
     check_accepted(step, f0, d0, direction, epsilon_k=1e-6 * abs(f0))
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6), log_first=st.floats(-3.0, 3.0),
        c1=st.floats(0.01, 0.45), c2_gap=st.floats(0.0, 1.0))
 def test_nonconvex_functions_accept_with_the_stated_conditions(seed, n, log_first, c1,

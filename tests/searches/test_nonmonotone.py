@@ -21,7 +21,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from _problems import extended_rosenbrock, quadratic, separable_sines, square, square_gradient
@@ -93,7 +93,6 @@ def descent_direction(rng, gradient, steepest):
 # --------------------------------------------------------------------------- properties
 
 
-@settings(deadline=None, max_examples=60)
 @given(runs())
 def test_every_accepted_step_satisfies_the_papers_condition(run):
     """Long sequences of calls; each accepted step checked against the paper's reference,
@@ -128,7 +127,6 @@ def test_every_accepted_step_satisfies_the_papers_condition(run):
         x = step.x
 
 
-@settings(deadline=None, max_examples=40)
 @given(runs(), st.sampled_from([{"memory": 1}, {"reference": "average", "eta": 0.0}]))
 def test_monotone_settings_reproduce_armijo_trial_for_trial(run, monotone):
     """memory = 1 (GLL with M = 1) and eta = 0 (C_k = f_k) are Armijo's condition, and the

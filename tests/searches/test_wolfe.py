@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import given
 from hypothesis import strategies as st
 
 from linestep import Status
@@ -106,9 +106,9 @@ CASES = [pytest.param(table, row[0], id=f"table{table['table']}-a0={row[0]:g}")
 @pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
 @pytest.mark.parametrize(("table", "alpha0"), CASES)
 def test_paper_functions(table, alpha0, strong):
-    """Moré & Thuente 1994 §5 functions, ftol/gtol per table (recalled from memory):
+    """Moré & Thuente 1994 §5 functions, c1/c2 per table (recalled from memory):
     the accepted step satisfies the conditions claimed; the budget is not needed."""
-    c1, c2 = table["ftol"], table["gtol"]
+    c1, c2 = table["c1"], table["c2"]
     step, f0, d0 = search_phi(Wolfe(c1=c1, c2=c2, strong=strong, initial=alpha0),
                               make_phi(table))
     assert step.status is Status.accepted
@@ -132,7 +132,6 @@ def test_same_conditions_as_scipy(table):
 
 
 # -- properties --------------------------------------------------------------------------
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 8), log_condition=st.floats(0, 6),
        scale=st.floats(-3, 3), pair=constants(), strong=st.booleans())
 def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pair, strong):
@@ -145,7 +144,6 @@ def test_wolfe_conditions_on_random_quadratics(seed, n, log_condition, scale, pa
     assert_wolfe(step, fun(x), float(grad(x) @ d), c1, c2, strong, direction=d)
 
 
-@settings(deadline=None, max_examples=60)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(1, 6), scale=st.floats(-2, 2),
        pair=constants(), strong=st.booleans())
 def test_wolfe_conditions_on_nonconvex_functions(seed, n, scale, pair, strong):

@@ -445,8 +445,8 @@ def _setups(loop: str, smoothness: Smoothness, problem: Any) -> list[_SetUp]:
                 rate = _rate(multiple / smoothness.lipschitz)
                 add(f"Fixed({rate!r})", partial(Fixed, rate))
             rate = _rate(1.0 / smoothness.lipschitz)
-            add(f"Schedule.inverse_time({rate!r}, rate={SCHEDULE_DECAY!r})",
-                partial(Schedule.inverse_time, rate, rate=SCHEDULE_DECAY))
+            add(f"Schedule.robbins_monro({rate!r}, rate={SCHEDULE_DECAY!r})",
+                partial(Schedule.robbins_monro, rate, rate=SCHEDULE_DECAY))
         for code, build in _searches():
             add(code, build)
         add("BarzilaiBorwein()", BarzilaiBorwein)

@@ -8,16 +8,10 @@ from typing import Any, Protocol, runtime_checkable
 import numpy as np
 
 from linestep import _array
+from linestep._rebuild import Rebuilds
 
-
-class _Rebuildable:
-    """repr prints the constructor call that rebuilds the object (from `_fields`)."""
-
-    _fields: tuple[str, ...] = ()
-
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{type(self).__name__}({arguments})"
+# Directions take their repr from the one mechanism of the package.
+_Rebuildable = Rebuilds
 
 
 @runtime_checkable

@@ -4,8 +4,10 @@ from __future__ import annotations
 
 from typing import Any
 
+from linestep._rebuild import Rebuilds
 
-class SteepestDescent:
+
+class SteepestDescent(Rebuilds):
     """d = −∇f(x).
 
     Examples
@@ -17,9 +19,6 @@ class SteepestDescent:
     """
 
     restarted = False
-
-    def __repr__(self) -> str:
-        return "SteepestDescent()"
 
     def __call__(self, x: Any, gradient: Any) -> Any:
         if (getattr(gradient, "shape", None) != getattr(x, "shape", ())

@@ -24,10 +24,12 @@ import jax
 import jax.numpy as jnp
 
 from linestep import _validate
-from linestep.jax import _initial, _interpolate
+from linestep._constants import NON_FINITE_SHRINK
+from linestep.jax import _interpolate
 from linestep.jax._line import INF, Line
 from linestep.jax._search import ACCEPTED, MAX_EVALUATIONS, STEP_TOO_SMALL, CompiledSearch
-from linestep.searches.armijo import NON_FINITE_SHRINK, Armijo
+from linestep.jax._twin import twin, twin_fields
+from linestep.searches.armijo import Armijo
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 _RUNNING, _ACCEPTED, _TOO_SMALL = 0, 1, 2
@@ -97,8 +99,7 @@ class Backtracking(CompiledSearch):
 @dataclass(frozen=True, eq=True, repr=False)
 class ArmijoSearch(Backtracking):
     _factory = "armijo"
-    _fields = ("c1", "shrink", "interpolation", "shrink_limits", "initial",
-               "max_evaluations", "fused")
+    _fields = twin_fields(Armijo, "fused")
 
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
         point, has_point, status, tally = self.backtrack(line, first, active, line.value)
@@ -122,8 +123,7 @@ class NonmonotoneSearch(Backtracking):
     reference: str
     eta: float
     _factory = "nonmonotone_armijo"
-    _fields = ("memory", "reference", "eta", "c1", "shrink", "interpolation",
-               "shrink_limits", "initial", "max_evaluations", "fused")
+    _fields = twin_fields(NonmonotoneArmijo, "fused")
 
     def _begin_method(self, x: Any, dtype: Any) -> Reference:
         return Reference(values=jnp.full((self.memory,), -jnp.inf, dtype),
@@ -206,15 +206,9 @@ def armijo(*, c1: float = 1e-4, shrink: float = 0.5, interpolation: str | None =
     >>> lj.StatusCode(int(out.status)).name, float(out.size), float(out.value)
     ('accepted', 0.5, 0.0)
     """
-    options = Armijo(c1=c1, shrink=shrink, interpolation=interpolation,
-                     shrink_limits=shrink_limits, initial=initial,
-                     max_evaluations=max_evaluations)
-    return ArmijoSearch(c1=options.c1, shrink=options.shrink,
-                        interpolation=options.interpolation,
-                        shrink_limits=options.shrink_limits,
-                        initial=_initial.resolve(options.initial),
-                        max_evaluations=options.max_evaluations,
-                        fused=_validate.flag("fused", fused))
+    host = Armijo(c1=c1, shrink=shrink, interpolation=interpolation,
+                  shrink_limits=shrink_limits, initial=initial, max_evaluations=max_evaluations)
+    return twin(ArmijoSearch, host, fused=_validate.flag("fused", fused))
 
 
 def nonmonotone_armijo(*, memory: int = 10, reference: str = "max", eta: float = 0.85,
@@ -248,14 +242,8 @@ def nonmonotone_armijo(*, memory: int = 10, reference: str = "max", eta: float =
     Grippo, Lampariello and Lucidi, SIAM J. Numer. Anal. 23(4):707–716, 1986.
     Zhang and Hager, SIAM J. Optim. 14(4):1043–1056, 2004.
     """
-    options = NonmonotoneArmijo(memory=memory, reference=reference, eta=eta, c1=c1,
-                                shrink=shrink, interpolation=interpolation,
-                                shrink_limits=shrink_limits, initial=initial,
-                                max_evaluations=max_evaluations)
-    return NonmonotoneSearch(memory=options.memory, reference=options.reference,
-                             eta=options.eta, c1=options.c1, shrink=options.shrink,
-                             interpolation=options.interpolation,
-                             shrink_limits=options.shrink_limits,
-                             initial=_initial.resolve(options.initial),
-                             max_evaluations=options.max_evaluations,
-                             fused=_validate.flag("fused", fused))
+    host = NonmonotoneArmijo(memory=memory, reference=reference, eta=eta, c1=c1,
+                             shrink=shrink, interpolation=interpolation,
+                             shrink_limits=shrink_limits, initial=initial,
+                             max_evaluations=max_evaluations)
+    return twin(NonmonotoneSearch, host, fused=_validate.flag("fused", fused))

@@ -25,11 +25,13 @@ import jax
 import jax.numpy as jnp
 
 from linestep import _validate
-from linestep.jax import _initial, _tree
+from linestep._constants import DIRECTION_RTOL
+from linestep.jax import _tree
 from linestep.jax._armijo import Backtracking, NonmonotoneSearch, nonmonotone_armijo
 from linestep.jax._line import Line
 from linestep.jax._search import CompiledSearch, guarded_step
-from linestep.rules.barzilai_borwein import DIRECTION_RTOL, BarzilaiBorwein
+from linestep.jax._twin import twin, twin_fields
+from linestep.rules.barzilai_borwein import BarzilaiBorwein
 
 
 @jax.tree_util.register_dataclass
@@ -52,7 +54,7 @@ class BarzilaiBorweinSearch(CompiledSearch):
     globalize: Any
     fused: bool
     _factory = "barzilai_borwein"
-    _fields = ("variant", "first", "min_size", "max_size", "globalize", "fused")
+    _fields = twin_fields(BarzilaiBorwein, "fused")
 
     @property
     def _initial(self) -> Any:
@@ -157,9 +159,7 @@ def barzilai_borwein(*, variant: str = "alternate", first: Any = None,
             f"linestep.jax.nonmonotone_armijo(), or None for the pure BB step; got "
             f"{globalize!r}."
         )
-    options = BarzilaiBorwein(variant=variant, first=first, min_size=min_size,
-                              max_size=max_size, globalize=None)
-    return BarzilaiBorweinSearch(variant=options.variant,
-                                 first=_initial.resolve(options.first),
-                                 min_size=options.min_size, max_size=options.max_size,
-                                 globalize=globalize, fused=_validate.flag("fused", fused))
+    host = BarzilaiBorwein(variant=variant, first=first, min_size=min_size,
+                           max_size=max_size, globalize=None)
+    return twin(BarzilaiBorweinSearch, host, globalize=globalize,
+                fused=_validate.flag("fused", fused))

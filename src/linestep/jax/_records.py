@@ -18,6 +18,7 @@ from typing import Any
 import jax
 import numpy as np
 
+from linestep._rebuild import Rebuilds
 from linestep._step import MESSAGES, Status
 from linestep.stopping import Kind, Verdict
 
@@ -71,7 +72,7 @@ class Reason(enum.IntEnum):
         return Kind.failed
 
 
-class Rebuildable:
+class Rebuildable(Rebuilds):
     """repr prints the call that rebuilds the object: ``_factory(field=value, ...)``.
 
     For frozen dataclasses of options (declare them with ``repr=False``), so
@@ -80,12 +81,9 @@ class Rebuildable:
 
     #: The name to call: the factory in `linestep.jax`, or the host strategy class.
     _factory = ""
-    #: Options shown, in order (each is an attribute).
-    _fields: tuple[str, ...] = ()
 
-    def __repr__(self) -> str:
-        arguments = ", ".join(f"{name}={getattr(self, name)!r}" for name in self._fields)
-        return f"{self._factory}({arguments})"
+    def _constructor(self) -> str:
+        return self._factory
 
 
 def _static() -> Any:

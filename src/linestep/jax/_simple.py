@@ -32,11 +32,17 @@ class ScheduledSearch(CompiledSearch):
     """
 
     function: Any
-    label: str
+    label: str  # the factory that built it: "fixed" or "schedule"
     fused: bool = True
 
-    def __repr__(self) -> str:
+    # The repr is the factory call (`linestep._rebuild`), e.g. ``fixed(0.5, fused=True)``.
+    def _constructor(self) -> str:
         return self.label
+
+    def _arguments(self) -> list[tuple[str | None, Any]]:
+        function = self.function
+        argument = function.size if isinstance(function, _Constant) else function
+        return [(None, argument), ("fused", self.fused)]
 
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
         size = jnp.asarray(self.function(state.calls), line.dtype)
@@ -81,7 +87,7 @@ def fixed(size: float, *, fused: bool = True) -> ScheduledSearch:
     (1.0, 1.0)
     """
     size = Fixed(size).size
-    return ScheduledSearch(function=_Constant(size), label=f"fixed({size!r})",
+    return ScheduledSearch(function=_Constant(size), label="fixed",
                            fused=_validate.flag("fused", fused))
 
 
@@ -128,7 +134,7 @@ def schedule(function: Any, *, fused: bool = True) -> ScheduledSearch:
             "`function` must be a traceable callable k -> size, such as "
             f"`lambda k: 0.1 * 0.9 ** k`; got {function!r}."
         )
-    return ScheduledSearch(function=function, label=f"schedule({function!r})",
+    return ScheduledSearch(function=function, label="schedule",
                            fused=_validate.flag("fused", fused))
 
 

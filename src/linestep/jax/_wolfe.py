@@ -22,7 +22,8 @@ from typing import Any
 import jax
 import jax.numpy as jnp
 
-from linestep.jax import _initial, _interpolate, _tree
+from linestep._constants import BISECT_UNLESS_SHRUNK, NON_FINITE_SHRINK
+from linestep.jax import _interpolate, _tree
 from linestep.jax._line import INF, Line, Point
 from linestep.jax._search import (
     ACCEPTED,
@@ -31,12 +32,11 @@ from linestep.jax._search import (
     STEP_TOO_LARGE,
     CompiledSearch,
 )
+from linestep.jax._twin import twin, twin_fields
 from linestep.searches.wolfe import (
     AGREE,
-    BISECT_UNLESS_SHRUNK,
     EXTRAPOLATE_MIN,
     MARGIN,
-    NON_FINITE_SHRINK,
     TRUSTED_MARGIN,
     VALUE_TIE,
     Wolfe,
@@ -57,7 +57,7 @@ class WolfeSearch(CompiledSearch):
     max_size: float
     max_evaluations: int
     _factory = "wolfe"
-    _fields = ("c1", "c2", "strong", "initial", "expand", "max_size", "max_evaluations")
+    _fields = twin_fields(Wolfe)
     _needs_slope = True
     _track_best = True
 
@@ -142,7 +142,7 @@ class WolfeSearch(CompiledSearch):
             a, b = lo[0], hi[0]
             width = jnp.abs(b - a)
             collapsed = (width <= floor) | (width <= eps * jnp.maximum(a, b))
-            inside = _inside(a, lo[1], lo[2], b, hi[1], hi[2])
+            inside = _zoom_trial(a, lo[1], lo[2], b, hi[1], hi[2])
             size = jnp.where(width >= BISECT_UNLESS_SHRUNK * width_older, 0.5 * (a + b),
                              jnp.where(hi[1] < INF, inside, a + NON_FINITE_SHRINK * (b - a)))
             spent = (size != last.size) & (tally.count >= self.max_evaluations)
@@ -187,7 +187,7 @@ def _pick(condition: Any, a: tuple, b: tuple) -> tuple:
     return tuple(jnp.where(condition, u, v) for u, v in zip(a, b, strict=True))
 
 
-def _inside(a: Any, fa: Any, da: Any, b: Any, fb: Any, db: Any) -> Any:
+def _zoom_trial(a: Any, fa: Any, da: Any, b: Any, fb: Any, db: Any) -> Any:
     """A trial strictly inside (a, b): cubic, else quadratic, else the midpoint.
 
     The twin of `linestep.searches.wolfe._zoom_trial`: the trial keeps `MARGIN` of
@@ -249,8 +249,6 @@ def wolfe(*, c1: float = 1e-4, c2: float = 0.9, strong: bool = True, initial: An
     >>> float(out.size), int(out.values), int(out.gradients)
     (0.5, 3, 3)
     """
-    options = Wolfe(c1=c1, c2=c2, strong=strong, initial=initial, expand=expand,
-                    max_size=max_size, max_evaluations=max_evaluations)
-    return WolfeSearch(c1=options.c1, c2=options.c2, strong=options.strong,
-                       initial=_initial.resolve(options.initial), expand=options.expand,
-                       max_size=options.max_size, max_evaluations=options.max_evaluations)
+    host = Wolfe(c1=c1, c2=c2, strong=strong, initial=initial, expand=expand,
+                 max_size=max_size, max_evaluations=max_evaluations)
+    return twin(WolfeSearch, host)

@@ -8,29 +8,31 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _initial, _validate
-from linestep._controller import StepController
+from linestep._constants import DIRECTION_RTOL
+from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
+from linestep._rebuild import call
 from linestep._step import Status
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 __all__ = ["BarzilaiBorwein"]
 
-# Largest ‖d − c·(−g)‖ / ‖d‖ still read as d = c·(−g): rounding of a negation or scaling.
-DIRECTION_RTOL = 1e-6
 
 _NAME = "BarzilaiBorwein"
 
 _VARIANTS = ("long", "short", "alternate")
 
 
-class _Raydan:
-    """Stands for the default `globalize`: a fresh NonmonotoneArmijo(memory=10) each time."""
+class _DefaultGlobalization:
+    """Stands for the default `globalize` in the signature: Raydan's (1997) nonmonotone
+    search, built afresh for each controller (a shared default instance would share its
+    reference values between controllers)."""
 
     def __repr__(self) -> str:
-        return "NonmonotoneArmijo(reference='max', memory=10)"
+        return call("NonmonotoneArmijo", [("reference", "max"), ("memory", 10)])
 
 
-_RAYDAN = _Raydan()
+_DEFAULT_GLOBALIZATION = _DefaultGlobalization()
 
 
 class BarzilaiBorwein(StepController):
@@ -124,7 +126,7 @@ class BarzilaiBorwein(StepController):
 
     def __init__(self, *, variant: str = "alternate", first: Any = None,
                  min_size: float = 1e-10, max_size: float = 1e10,
-                 globalize: Any = _RAYDAN) -> None:
+                 globalize: Any = _DEFAULT_GLOBALIZATION) -> None:
         super().__init__()
         self.variant = _validate.choice("variant", variant, _VARIANTS)
         self.first = _initial.resolve(_initial.ScaledTrial() if first is None else first,
@@ -137,7 +139,7 @@ class BarzilaiBorwein(StepController):
                 f"`min_size` must not exceed `max_size`; got min_size={min_size!r}, "
                 f"max_size={max_size!r}."
             )
-        if globalize is _RAYDAN:
+        if globalize is _DEFAULT_GLOBALIZATION:
             globalize = NonmonotoneArmijo(reference="max", memory=10)
         elif globalize is not None and not _is_search(globalize):
             # A rule (Fixed, Schedule, Polyak, BarzilaiBorwein, Fallback) would replace
@@ -166,7 +168,7 @@ class BarzilaiBorwein(StepController):
             self.globalize.reset()
 
     # -- hooks ---------------------------------------------------------------------
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         scale = _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,
                                                      origin.slope, rtol=DIRECTION_RTOL)
@@ -178,14 +180,14 @@ class BarzilaiBorwein(StepController):
         if self.globalize is None:
             point = ray.value(size)
             if not point.finite:
-                return None, Status.non_finite, (
+                return Outcome(None, Status.non_finite, (
                     f"f is not finite at the BB step {size:.3g}; x is unchanged. Lower "
                     "`max_size` or use the default nonmonotone globalisation."
-                )
-            return point, Status.accepted, note
-        outcome = self.globalize._search(ray, size)
-        if note is not None and outcome[1] is Status.accepted and len(outcome) == 2:
-            return outcome[0], outcome[1], note
+                ))
+            return Outcome(point, Status.accepted, note)
+        outcome = self._delegate(self.globalize, ray, first=size)
+        if note is not None and outcome.status is Status.accepted and outcome.message is None:
+            return Outcome(outcome.point, outcome.status, note)
         return outcome
 
     # -- the BB step -----------------------------------------------------------------

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
 
@@ -64,25 +64,20 @@ class Fallback(StepController):
         self.max_evaluations = rule.max_evaluations + search.max_evaluations
         self.record_trials = rule.record_trials or search.record_trials
 
-    def _search(self, ray: Ray, first: float) -> tuple:
-        rule, search = self.rule, self.search
-        outcome = rule._search(ray, rule._first_trial(ray))
-        point, status = outcome[0], outcome[1]
-        rule._remember(ray, point, status)
-        origin = ray.origin
-        if status is Status.accepted and point is not None and point.value <= origin.value:
-            return outcome
+    def _search(self, ray: Ray, first: float) -> Outcome:
+        proposed = self._delegate(self.rule, ray)
+        point = proposed.point
+        if (proposed.status is Status.accepted and point is not None
+                and point.value <= ray.origin.value):
+            return proposed
         rejected = point.size if point is not None else ray.last.size
-        first = search._first_trial(ray)
-        if rejected > 0.0:
-            first = min(first, rejected)
-        outcome = search._search(ray, first)
-        search._remember(ray, outcome[0], outcome[1])
-        if outcome[1] is Status.accepted:
+        outcome = self._delegate(self.search, ray, at_most=rejected)
+        if outcome.status is Status.accepted:
             reason = "was not finite" if not ray.last.finite or point is None else "raised f"
-            message = (f"The rule's step of size {rejected:.3g} {reason}; {type(search).__name__} "
-                       f"accepted a step of size {outcome[0].size:.3g} instead.")
-            return outcome[0], outcome[1], message
+            return Outcome(outcome.point, outcome.status, (
+                f"The rule's step of size {rejected:.3g} {reason}; "
+                f"{type(self.search).__name__} accepted a step of size "
+                f"{outcome.point.size:.3g} instead."))
         return outcome
 
     def _reset_state(self) -> None:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from linestep import _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
 
@@ -51,8 +51,8 @@ class Fixed(StepController):
         self.size = _validate.positive("size", size)
         self.max_evaluations = 1
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         point = ray.value(self.size)
         if not point.finite:
-            return None, Status.non_finite
-        return point, Status.accepted
+            return Outcome(None, Status.non_finite)
+        return Outcome(point, Status.accepted)

@@ -3,11 +3,10 @@
 from __future__ import annotations
 
 from linestep import _array, _validate
-from linestep._controller import StepController
+from linestep._constants import DIRECTION_RTOL, NON_FINITE_SHRINK
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep._step import Status
-from linestep.rules.barzilai_borwein import DIRECTION_RTOL
-from linestep.searches._backtrack import NON_FINITE_SHRINK
 
 __all__ = ["Polyak"]
 
@@ -33,19 +32,9 @@ class Polyak(StepController):
     first-order model f(x) + t·φ'(0) reaches f_lev.
 
     The target is `f_min` when given (Polyak's choice f_lev = f*). Otherwise it
-    is adapted by the path-based level rule of Goffin and Kiwiel (1999), also
-    analysed by Nedić and Bertsekas (2001). With f_k the value at the start of
-    call k, f_rec the lowest f_k so far, and a *group* of calls sharing one
-    reference value r and gap δ:
-
-    * if f_k ≤ r − δ/2 (enough descent), a new group starts: r = f_rec, same δ;
-    * else if the path length Σ t·‖d‖ since the group started exceeds
-      `path_bound`, a new group starts with r = f_rec and δ halved;
-    * the target is f_lev = r − δ.
-
-    For convex f with bounded subgradients and f* finite this gives
-    inf_k f(x_k) = f* for any path bound (Goffin and Kiwiel 1999; recalled
-    from memory). The values need not decrease: keep the best point yourself.
+    is adapted between calls by the path-based level rule of Goffin and Kiwiel
+    (1999), described under Notes; the values then need not decrease, so keep
+    the best point yourself.
 
     The new point is evaluated once as a guard. A rise in f is *accepted*: the
     Polyak step brings x closer to the minimisers of a convex f (for f_min = f*),
@@ -76,14 +65,6 @@ class Polyak(StepController):
         ``not_descent`` does not occur: a direction other than c·(−∇f) raises.
         A zero gradient gives ``accepted`` with size 0.
 
-    Notes
-    -----
-    Proof of the known-f* bounds (Polyak 1987, §5.3): for convex f and
-    x* a minimiser, the step gives
-    ‖x_{k+1} − x*‖² ≤ ‖x_k − x*‖² − (f_k − f*)²/‖g_k‖², hence with R = ‖x_0 − x*‖
-    min_{k<K} f_k − f* ≤ G·R/√K when ‖g_k‖ ≤ G, and ≤ 2·L·R²/K when ∇f is
-    L-Lipschitz (‖g_k‖² ≤ 2L(f_k − f*); Hazan and Kakade 2019).
-
     References
     ----------
     B. T. Polyak, *Introduction to Optimization*, Optimization Software, 1987,
@@ -108,6 +89,27 @@ class Polyak(StepController):
     (0.25, array([ 1., -1.]))
     >>> Polyak(f_min=10.0)((f, g), x, -g(x)).status
     Status.target_met
+
+    Notes
+    -----
+    The adaptive target (Goffin and Kiwiel 1999, also analysed by Nedić and
+    Bertsekas 2001). With f_k the value at the start of call k, f_rec the lowest
+    f_k so far, and a *group* of calls sharing one reference value r and gap δ:
+
+    * if f_k ≤ r − δ/2 (enough descent), a new group starts: r = f_rec, same δ;
+    * else if the path length Σ t·‖d‖ since the group started exceeds
+      `path_bound`, a new group starts with r = f_rec and δ halved;
+    * the target is f_lev = r − δ.
+
+    For convex f with bounded subgradients and f* finite this gives
+    inf_k f(x_k) = f* for any path bound (Goffin and Kiwiel 1999; recalled
+    from memory).
+
+    Proof of the known-f* bounds (Polyak 1987, §5.3): for convex f and
+    x* a minimiser, the step gives
+    ‖x_{k+1} − x*‖² ≤ ‖x_k − x*‖² − (f_k − f*)²/‖g_k‖², hence with R = ‖x_0 − x*‖
+    min_{k<K} f_k − f* ≤ G·R/√K when ‖g_k‖ ≤ G, and ≤ 2·L·R²/K when ∇f is
+    L-Lipschitz (‖g_k‖² ≤ 2L(f_k − f*); Hazan and Kakade 2019).
     """
 
     _fields = ("f_min", "max_size", "gap", "path_bound")
@@ -131,13 +133,13 @@ class Polyak(StepController):
         self._path = 0.0  # Σ t·‖d‖ since the group started
         self._bound: float | None = self.path_bound  # B in use
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         _validate.negative_gradient_multiple(_NAME, origin.gradient, ray.direction,
                                              origin.slope, rtol=DIRECTION_RTOL)
         target = self.f_min if self.f_min is not None else self._level(origin.value)
         if not origin.value > target:
-            return None, Status.target_met
+            return Outcome(None, Status.target_met)
         size = min((origin.value - target) / -origin.slope, self.max_size)
         length = _array.norm2(ray.direction)
         if self.f_min is None and self._bound is None:
@@ -148,10 +150,10 @@ class Polyak(StepController):
                 break
             point = ray.value(point.size * NON_FINITE_SHRINK)
         if not point.finite:
-            return None, Status.non_finite
+            return Outcome(None, Status.non_finite)
         if self.f_min is None:
             self._path += point.size * length  # the path actually travelled
-        return point, Status.accepted
+        return Outcome(point, Status.accepted)
 
     def _level(self, value: float) -> float:
         """Goffin–Kiwiel target for a call starting at f_k = `value`."""

@@ -1,17 +1,17 @@
-"""A step size that depends on the iteration counter: decays, cosine annealing, warm-up."""
+"""A step size that depends on the iteration counter: decays, cosine annealing, a ramp."""
 
 from __future__ import annotations
 
 import math
 import numbers
 import sys
-import types
 from collections.abc import Callable
 from typing import Any
 
 from linestep import _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
+from linestep._rebuild import Rebuilds
 from linestep._step import Status
 
 __all__ = ["Schedule"]
@@ -42,16 +42,16 @@ class Schedule(StepController):
     ========================  ==================================================
     `step_decay`              initial·factor^⌊k/every⌋
     `exponential`             initial·rate^k
-    `inverse_time`            initial/(1 + rate·k)^power
-    `polynomial`              (initial − final)·(1 − min(k, steps)/steps)^power
+    `robbins_monro`           initial/(1 + rate·k)^power
+    `taper`                   (initial − final)·(1 − min(k, steps)/steps)^power
                               + final
     `cosine`                  final + (initial − final)·(1 + cos(π·k/period))/2,
                               then `final`; optionally with warm restarts
-    `with_warmup`             a linear ramp before any schedule
+    `with_ramp`               a linear ramp-up before any schedule
     ========================  ==================================================
 
     Every size is positive: named constructors check their arguments, and the
-    decays that approach 0 (`step_decay`, `exponential`, `inverse_time`) are
+    decays that approach 0 (`step_decay`, `exponential`, `robbins_monro`) are
     floored at the smallest normal float instead of underflowing to 0.
 
     Parameters
@@ -83,10 +83,14 @@ class Schedule(StepController):
 
     References
     ----------
+    H. Robbins and S. Monro, "A stochastic approximation method", Ann. Math.
+    Statist. 22(3):400–407, 1951 (step sizes with Σ t_k = ∞, Σ t_k² < ∞, such as
+    t₀/(1 + r·k)).
     I. Loshchilov and F. Hutter, "SGDR: Stochastic gradient descent with warm
     restarts", ICLR 2017, eq. (5) (cosine annealing and warm restarts).
-    Step, exponential, inverse-time and polynomial decay and linear warm-up are
-    common practice.
+    P. Goyal et al., "Accurate, large minibatch SGD: training ImageNet in 1
+    hour", arXiv:1706.02677, 2017 (a linear ramp-up of the step size).
+    Step decay, exponential decay and tapering to a final size are common practice.
 
     Examples
     --------
@@ -165,8 +169,11 @@ class Schedule(StepController):
         return cls(_Exponential(_validate.positive("initial", initial), _unit_factor("rate", rate)))
 
     @classmethod
-    def inverse_time(cls, initial: float, *, rate: float, power: float = 1.0) -> Schedule:
-        """initial/(1 + rate·k)^power.
+    def robbins_monro(cls, initial: float, *, rate: float, power: float = 1.0) -> Schedule:
+        """initial/(1 + rate·k)^power: the stochastic-approximation family.
+
+        With 1/2 < power <= 1 the sizes satisfy Robbins and Monro's conditions
+        Σ size(k) = ∞ and Σ size(k)² < ∞.
 
         Parameters
         ----------
@@ -182,16 +189,17 @@ class Schedule(StepController):
         Schedule
             A new schedule with its counter at k = 0.
         """
-        return cls(_InverseTime(_validate.positive("initial", initial),
-                                _validate.nonnegative("rate", rate),
-                                _validate.positive("power", power)))
+        return cls(_RobbinsMonro(_validate.positive("initial", initial),
+                                 _validate.nonnegative("rate", rate),
+                                 _validate.positive("power", power)))
 
     @classmethod
-    def polynomial(cls, initial: float, *, final: float, steps: int,
-                   power: float = 1.0) -> Schedule:
+    def taper(cls, initial: float, *, final: float, steps: int,
+              power: float = 1.0) -> Schedule:
         """(initial − final)·(1 − min(k, steps)/steps)^power + final.
 
-        Reaches `final` at k = steps and stays there; power 1 is a straight line.
+        Tapers from `initial` to `final` over `steps` calls and stays there; power 1
+        is a straight line, a larger power drops faster at first.
 
         Parameters
         ----------
@@ -210,9 +218,9 @@ class Schedule(StepController):
             A new schedule with its counter at k = 0.
         """
         initial = _validate.positive("initial", initial)
-        return cls(_Polynomial(initial, _final_size(final, initial),
-                               _validate.integer("steps", steps),
-                               _validate.positive("power", power)))
+        return cls(_Taper(initial, _final_size(final, initial),
+                          _validate.integer("steps", steps),
+                          _validate.positive("power", power)))
 
     @classmethod
     def cosine(cls, initial: float, *, final: float, period: int,
@@ -264,21 +272,21 @@ class Schedule(StepController):
         return cls(_Cosine(initial, _final_size(final, initial),
                            _validate.integer("period", period), restart_growth))
 
-    def with_warmup(self, steps: int, *, start: float = 0.1) -> Schedule:
-        """A new schedule: a linear ramp over `steps` calls, then this schedule from its k = 0.
+    def with_ramp(self, n: int, *, start: float = 0.1) -> Schedule:
+        """A new schedule: a linear ramp over `n` calls, then this schedule from its k = 0.
 
-        size(k) = size₀·(start + (1 − start)·k/steps) for k < steps, where size₀
-        is this schedule's size at k = 0; then size(k) = this schedule's
-        size(k − steps). The wrapped schedule is *shifted*: it starts from its
-        own k = 0 once the warm-up ends (common practice: warm up linearly,
-        then run the decay as if from the start). `start` is a fraction of
-        size₀, not an absolute size, so the ramp scales with the schedule.
-        The new schedule has its own counter, starting at 0.
+        size(k) = size₀·(start + (1 − start)·k/n) for k < n, where size₀ is this
+        schedule's size at k = 0; then size(k) = this schedule's size(k − n). The
+        wrapped schedule is *shifted*: it starts from its own k = 0 once the ramp
+        ends (Goyal et al. 2017: ramp up linearly, then run the decay as if from
+        the start). `start` is a fraction of size₀, not an absolute size, so the
+        ramp scales with the schedule. The new schedule has its own counter,
+        starting at 0.
 
         Parameters
         ----------
-        steps : int
-            Length of the ramp, >= 1.
+        n : int
+            Length of the ramp in calls, >= 1.
         start : float
             The first size as a fraction of size₀, 0 < start <= 1.
 
@@ -290,13 +298,15 @@ class Schedule(StepController):
         Examples
         --------
         >>> from linestep.rules.schedule import Schedule
-        >>> warm = Schedule.exponential(1.0, rate=0.5).with_warmup(4, start=0.25)
-        >>> [round(warm.size_at(k), 4) for k in range(7)]
+        >>> ramped = Schedule.exponential(1.0, rate=0.5).with_ramp(4, start=0.25)
+        >>> [round(ramped.size_at(k), 4) for k in range(7)]
         [0.25, 0.4375, 0.625, 0.8125, 1.0, 0.5, 0.25]
+        >>> ramped
+        Schedule.exponential(1.0, rate=0.5).with_ramp(4, start=0.25)
         """
-        steps = _validate.integer("steps", steps)
+        n = _validate.integer("n", n)
         # `start` is a fraction of the wrapped schedule's first size.
-        return type(self)(_Warmup(self._sizes, steps, _unit_factor("start", start)))
+        return type(self)(_Ramp(self._sizes, n, _unit_factor("start", start)))
 
     # -- public helpers ------------------------------------------------------------
     @property
@@ -319,22 +329,26 @@ class Schedule(StepController):
         """
         return self._sizes(_validate.integer("k", k, minimum=0))
 
-    def __repr__(self) -> str:
-        return self._sizes.call()
+    # The repr is the formula's: the named constructor and its arguments.
+    def _constructor(self) -> str:
+        return self._sizes._constructor()
+
+    def _arguments(self) -> list[tuple[str | None, Any]]:
+        return self._sizes._arguments()
 
     # -- the rule ------------------------------------------------------------------
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         k = self._k
         size = self._sizes(k)
         # Count the call before evaluating: a guarded failure is still an iteration.
         self._k = k + 1
         point = ray.value(size)
         if not point.finite:
-            return None, Status.non_finite, (
+            return Outcome(None, Status.non_finite, (
                 f"The scheduled step of size {size:.3g} (k={k}) gave a non-finite value; x "
                 "is unchanged. Lower the schedule or wrap it in Fallback(schedule, Armijo())."
-            )
-        return point, Status.accepted
+            ))
+        return Outcome(point, Status.accepted)
 
     def _reset_state(self) -> None:
         self._k = 0
@@ -359,24 +373,31 @@ def _floor(size: float) -> float:
     return size if size >= SMALLEST_SIZE else SMALLEST_SIZE
 
 
-# -- formulas: pure functions of k that know the call rebuilding them ---------------------
-class _Formula:
-    """A map k -> size with a `call()` string that rebuilds the schedule."""
+# -- formulas: pure functions of k whose repr rebuilds the schedule -------------------------
+class _Formula(Rebuilds):
+    """A map k -> size; its repr is the `Schedule` class method that builds it."""
 
     __slots__ = ()
+    #: The class method of `Schedule` that builds this formula.
+    _method = ""
+    _positional = ("initial",)
 
     def __call__(self, k: int) -> float:
         raise NotImplementedError
 
-    def call(self) -> str:
-        raise NotImplementedError
+    def _constructor(self) -> str:
+        return f"Schedule.{self._method}"
 
 
 class _UserFunction(_Formula):
     __slots__ = ("function",)
+    _positional = ("function",)
 
     def __init__(self, function: Callable[[int], Any]) -> None:
         self.function = function
+
+    def _constructor(self) -> str:
+        return "Schedule"
 
     def __call__(self, k: int) -> float:
         size = self.function(k)
@@ -385,28 +406,22 @@ class _UserFunction(_Formula):
             isinstance(size, numbers.Real) or getattr(size, "ndim", None) == 0
         ):
             raise TypeError(
-                f"{self.call()} returned {size!r} at k={k}; a schedule must return a real "
+                f"{self!r} returned {size!r} at k={k}; a schedule must return a real "
                 "number."
             )
         size = float(size)
         if not (size > 0.0 and math.isfinite(size)):
             raise ValueError(
-                f"{self.call()} returned size={size!r} at k={k}; a schedule must return a "
+                f"{self!r} returned size={size!r} at k={k}; a schedule must return a "
                 "finite positive size."
             )
         return size
 
-    def call(self) -> str:
-        function = self.function
-        if isinstance(function, (types.FunctionType, types.BuiltinFunctionType,
-                                 types.MethodType)):
-            name = getattr(function, "__qualname__", None) or function.__name__
-            return f"Schedule(<function {name}>)"
-        return f"Schedule({function!r})"
-
 
 class _StepDecay(_Formula):
     __slots__ = ("initial", "factor", "every")
+    _method = "step_decay"
+    _fields = ("factor", "every")
 
     def __init__(self, initial: float, factor: float, every: int) -> None:
         self.initial, self.factor, self.every = initial, factor, every
@@ -414,13 +429,11 @@ class _StepDecay(_Formula):
     def __call__(self, k: int) -> float:
         return _floor(self.initial * self.factor ** (k // self.every))
 
-    def call(self) -> str:
-        return (f"Schedule.step_decay({self.initial!r}, factor={self.factor!r}, "
-                f"every={self.every!r})")
-
 
 class _Exponential(_Formula):
     __slots__ = ("initial", "rate")
+    _method = "exponential"
+    _fields = ("rate",)
 
     def __init__(self, initial: float, rate: float) -> None:
         self.initial, self.rate = initial, rate
@@ -428,12 +441,11 @@ class _Exponential(_Formula):
     def __call__(self, k: int) -> float:
         return _floor(self.initial * self.rate**k)
 
-    def call(self) -> str:
-        return f"Schedule.exponential({self.initial!r}, rate={self.rate!r})"
 
-
-class _InverseTime(_Formula):
+class _RobbinsMonro(_Formula):
     __slots__ = ("initial", "rate", "power")
+    _method = "robbins_monro"
+    _fields = ("rate", "power")
 
     def __init__(self, initial: float, rate: float, power: float) -> None:
         self.initial, self.rate, self.power = initial, rate, power
@@ -445,13 +457,11 @@ class _InverseTime(_Formula):
             return SMALLEST_SIZE
         return _floor(self.initial / denominator)
 
-    def call(self) -> str:
-        power = "" if self.power == 1.0 else f", power={self.power!r}"
-        return f"Schedule.inverse_time({self.initial!r}, rate={self.rate!r}{power})"
 
-
-class _Polynomial(_Formula):
+class _Taper(_Formula):
     __slots__ = ("initial", "final", "steps", "power")
+    _method = "taper"
+    _fields = ("final", "steps", "power")
 
     def __init__(self, initial: float, final: float, steps: int, power: float) -> None:
         self.initial, self.final, self.steps, self.power = initial, final, steps, power
@@ -460,14 +470,11 @@ class _Polynomial(_Formula):
         remaining = 1.0 - min(k, self.steps) / self.steps
         return (self.initial - self.final) * remaining**self.power + self.final
 
-    def call(self) -> str:
-        power = "" if self.power == 1.0 else f", power={self.power!r}"
-        return (f"Schedule.polynomial({self.initial!r}, final={self.final!r}, "
-                f"steps={self.steps!r}{power})")
-
 
 class _Cosine(_Formula):
     __slots__ = ("initial", "final", "period", "restart_growth")
+    _method = "cosine"
+    _fields = ("final", "period", "restart_growth")
 
     def __init__(self, initial: float, final: float, period: int,
                  restart_growth: int | None) -> None:
@@ -493,24 +500,25 @@ class _Cosine(_Formula):
             length *= growth
         return k - start, length
 
-    def call(self) -> str:
-        restarts = ("" if self.restart_growth is None
-                    else f", restart_growth={self.restart_growth!r}")
-        return (f"Schedule.cosine({self.initial!r}, final={self.final!r}, "
-                f"period={self.period!r}{restarts})")
+    def _arguments(self) -> list[tuple[str | None, Any]]:
+        arguments = super()._arguments()
+        # No restarts is the default; leaving it out keeps the common repr short.
+        return arguments[:-1] if self.restart_growth is None else arguments
 
 
-class _Warmup(_Formula):
-    __slots__ = ("base", "steps", "start")
+class _Ramp(_Formula):
+    __slots__ = ("base", "n", "start")
+    _positional = ("n",)
+    _fields = ("start",)
 
-    def __init__(self, base: _Formula, steps: int, start: float) -> None:
-        self.base, self.steps, self.start = base, steps, start
+    def __init__(self, base: _Formula, n: int, start: float) -> None:
+        self.base, self.n, self.start = base, n, start
+
+    def _constructor(self) -> str:
+        return f"{self.base!r}.with_ramp"
 
     def __call__(self, k: int) -> float:
-        if k >= self.steps:
-            return self.base(k - self.steps)
+        if k >= self.n:
+            return self.base(k - self.n)
         start = self.start
-        return _floor(self.base(0) * (start + (1.0 - start) * k / self.steps))
-
-    def call(self) -> str:
-        return f"{self.base.call()}.with_warmup({self.steps!r}, start={self.start!r})"
+        return _floor(self.base(0) * (start + (1.0 - start) * k / self.n))

@@ -2,23 +2,22 @@
 
 from __future__ import annotations
 
+from linestep._constants import NON_FINITE_SHRINK
+from linestep._controller import Outcome
 from linestep._interpolate import clip, cubic_backtrack, quadratic_from_slope
 from linestep._ray import Point, Ray
 from linestep._step import Status
 
-# Shrink factor after a non-finite trial, where there is nothing to interpolate.
-NON_FINITE_SHRINK = 0.1
-
 
 def backtrack(ray: Ray, first: float, reference: float, c1: float, shrink: float,
-              interpolation: str | None, shrink_limits: tuple[float, float]) -> tuple:
+              interpolation: str | None, shrink_limits: tuple[float, float]) -> Outcome:
     """Backtrack from `first` until φ(t) ≤ reference + c1·t·φ'(0).
 
     The trial sequence is Armijo's: the model always interpolates φ itself
     (φ(0), φ'(0) and the failed trials), whatever the reference. With
     ``reference = φ(0)`` it is `Armijo`'s search; `NonmonotoneArmijo` passes its
     nonmonotone reference value.
-    Returns ``(point, Status.accepted)`` or ``(None, Status.step_too_small)``;
+    Returns ``Outcome(point, Status.accepted)`` or ``Outcome(None, Status.step_too_small)``;
     the ray raises `BudgetSpent` when the budget runs out.
     """
     origin = ray.origin
@@ -30,9 +29,9 @@ def backtrack(ray: Ray, first: float, reference: float, c1: float, shrink: float
         point: Point = ray.value(size)
         value = point.value
         if value - reference <= c1 * size * d0:  # as a difference, like Armijo's test
-            return point, Status.accepted
+            return Outcome(point, Status.accepted)
         if size <= ray.rounding_size():
-            return None, Status.step_too_small
+            return Outcome(None, Status.step_too_small)
         if not point.finite:
             next_size = size * min(shrink, NON_FINITE_SHRINK)
             older_size = None

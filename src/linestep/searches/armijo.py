@@ -5,9 +5,8 @@ from __future__ import annotations
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
-from linestep.searches._backtrack import NON_FINITE_SHRINK as NON_FINITE_SHRINK  # re-exported
 from linestep.searches._backtrack import backtrack
 
 __all__ = ["Armijo"]
@@ -88,7 +87,7 @@ class Armijo(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         return backtrack(ray, first, ray.origin.value, self.c1, self.shrink,
                          self.interpolation, self.shrink_limits)
 

@@ -6,7 +6,7 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import clip, quadratic_from_slope
 from linestep._ray import Ray
 from linestep._step import Status
@@ -85,7 +85,7 @@ class Goldstein(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0, d0, c = origin.value, origin.slope, self.c
         short, long = 0.0, math.inf
@@ -105,17 +105,17 @@ class Goldstein(StepController):
                     checked = True
                 short = size
             else:
-                return point, Status.accepted
+                return Outcome(point, Status.accepted)
             lowest = min(lowest, value)
             if long == math.inf:
                 if size >= self.max_size:
                     if not checked:
                         ray.check_origin_value()
-                    return ray.best, Status.step_too_large
+                    return Outcome(ray.best, Status.step_too_large)
                 size = min(EXPAND * size, self.max_size)
                 continue
             width = long - short
             if width <= ray.rounding_size():
-                return ray.best, Status.interval_too_small
+                return Outcome(ray.best, Status.interval_too_small)
             model = quadratic_from_slope(0.0, f0, d0, size, value) if point.finite else None
             size = clip(model, short + MARGIN * width, long - MARGIN * width)

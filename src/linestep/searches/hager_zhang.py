@@ -6,18 +6,17 @@ import math
 from typing import Any
 
 from linestep import _array, _initial, _validate
-from linestep._controller import StepController
+from linestep._constants import NON_FINITE_SHRINK
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
+from linestep._rebuild import Rebuilds
 from linestep._step import Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
 
 INF = math.inf
 
-# After a non-finite trial the next one is this fraction of the way from the lower
-# end of the bracket (our safeguard, the same factor as Armijo's; not in the paper).
-NON_FINITE_SHRINK = 0.1
 # Trials come from the cubic rather than the secant of φ' while the bracket's end values
 # differ by more than this many ε_k (they then carry information; our rule).
 VALUES_INFORM = 10.0
@@ -37,9 +36,9 @@ _APPROXIMATE = (
 
 
 class _Stop(Exception):
-    """Ends the search from any depth: carries the outcome tuple for `_search`."""
+    """Ends the search from any depth: carries the `Outcome` for `_search`."""
 
-    def __init__(self, outcome: tuple) -> None:
+    def __init__(self, outcome: Outcome) -> None:
         super().__init__()
         self.outcome = outcome
 
@@ -200,7 +199,7 @@ class HagerZhang(StepController):
         self._previous_value: float | None = None  # f(x_{k-1}), the previous call's φ(0)
         self._approximate = False  # the approximate Wolfe conditions are switched on
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0, d0, c1 = origin.value, origin.slope, self.c1
         # ε_k = ε·C_k after folding |f(x_k)| into the running average C_k (2006, §3).
@@ -223,10 +222,10 @@ class HagerZhang(StepController):
         slope = point.slope
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
-                return point, Status.accepted, _WOLFE
+                return Outcome(point, Status.accepted, _WOLFE)
             if (approximate and slope <= (2.0 * c1 - 1.0) * d0
                     and point.value <= f0 + epsilon_k):
-                return point, Status.accepted, _APPROXIMATE
+                return Outcome(point, Status.accepted, _APPROXIMATE)
         walk = _Walk(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
@@ -278,16 +277,16 @@ class _Walk:
         if slope is not None and slope >= self.curvature:
             # (T1) written as in the paper: φ(t) − φ(0) ≤ δ·t·φ'(0).
             if point.value - self.f0 <= self.c1 * size * self.d0:
-                raise _Stop((point, Status.accepted, _WOLFE))
+                raise _Stop(Outcome(point, Status.accepted, _WOLFE))
             if slope <= self.approximate and point.value <= self.limit:
-                raise _Stop((point, Status.accepted, _APPROXIMATE))
+                raise _Stop(Outcome(point, Status.accepted, _APPROXIMATE))
         return point
 
     def check_width(self, low: Point, high: Point) -> float:
         """The bracket's width; stops with ``interval_too_small`` at rounding level."""
         width = high.size - low.size
         if width <= SIZE_SPACINGS * EPS * high.size or width <= self.ray.rounding_size():
-            raise _Stop((self.ray.best, Status.interval_too_small))
+            raise _Stop(Outcome(self.ray.best, Status.interval_too_small))
         return width
 
     def bracket(self, size: float) -> tuple[Point, Point]:
@@ -302,7 +301,7 @@ class _Walk:
             if slope is None or point.value - size * shift > self.limit:  # B2 (non-finite:
                 return self.bisect(low, point)  # too long)
             if size >= self.max_size:
-                raise _Stop((self.ray.best, Status.step_too_large))
+                raise _Stop(Outcome(self.ray.best, Status.step_too_large))
             low = point  # B3
             size = min(self.expand * size, self.max_size)
 
@@ -327,7 +326,7 @@ class _Walk:
             weight = theta if high.slope is not None else NON_FINITE_SHRINK
             size = low.size + weight * width
             if not low.size < size < high.size:  # θ near 0 or 1 meets float spacing
-                raise _Stop((self.ray.best, Status.interval_too_small))
+                raise _Stop(Outcome(self.ray.best, Status.interval_too_small))
             point = self.probe(size)
             slope = point.slope
             if slope is not None:
@@ -379,7 +378,7 @@ class _Walk:
         return secant
 
 
-class HagerZhangStart:
+class HagerZhangStart(Rebuilds):
     """First trial by the rules I0, I1 and I2 of Hager & Zhang (2006, §3).
 
     I0 (no step accepted yet): t = fraction·‖x‖∞/‖g‖∞ when x ≠ 0, else
@@ -428,9 +427,7 @@ class HagerZhangStart:
         self.growth = _validate.positive("growth", growth)
         self.probe = None if probe is None else _validate.open_unit("probe", probe)
 
-    def __repr__(self) -> str:
-        return (f"HagerZhangStart(fraction={self.fraction!r}, growth={self.growth!r}, "
-                f"probe={self.probe!r})")
+    _fields = ("fraction", "growth", "probe")
 
     def guess(self, memory: _initial.Memory, ray: Any) -> float:
         if memory.size is not None:

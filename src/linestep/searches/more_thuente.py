@@ -6,7 +6,8 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._constants import BISECT_UNLESS_SHRUNK, NON_FINITE_SHRINK
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import (
     cubic_beyond,
     cubic_from_slopes,
@@ -18,18 +19,13 @@ from linestep._step import Status
 
 __all__ = ["MoreThuente"]
 
-INF = math.inf
 
 # Before a bracket exists the next trial lies in [t + LOW·(t − t_l), t + HIGH·(t − t_l)]
 # (the extrapolation bounds of the authors' implementation, MINPACK-2 dcsrch).
 EXTRAPOLATE_LOW = 1.1
 EXTRAPOLATE_HIGH = 4.0
-# Bisect when two trials shrank the bracket by less than this factor (paper §2, δ = 0.66).
-BISECT_UNLESS_SHRUNK = 0.66
 # Case 3 inside a bracket: the trial goes at most this fraction of the way to t_u (paper §4).
 CASE3_REACH = 0.66
-# A non-finite trial becomes t_u; the next trial is this fraction of the way from t_l to it.
-NON_FINITE_SHRINK = 0.1
 
 
 class MoreThuente(StepController):
@@ -37,39 +33,11 @@ class MoreThuente(StepController):
 
     With φ(t) = f(x + t·d), the step t is accepted when
 
-    * sufficient decrease: φ(t) ≤ φ(0) + c1·t·φ'(0) (the paper's μ, ``ftol``), and
-    * strong curvature: |φ'(t)| ≤ c2·|φ'(0)| (the paper's η, ``gtol``).
+    * sufficient decrease: φ(t) ≤ φ(0) + c1·t·φ'(0) (the paper's μ), and
+    * strong curvature: |φ'(t)| ≤ c2·|φ'(0)| (the paper's η).
 
-    The search keeps an interval [t_l, t_u] (either order) and a trial t. t_l
-    is the end with the least value of the working function, and its slope
-    points into the interval. Each trial replaces an end of the interval
-    (updating algorithm, paper §2). Until a trial meets ψ(t) ≤ 0 and
-    φ'(t) ≥ 0 (the first stage, paper §3) the working function is the auxiliary
-    ψ(t) = φ(t) − φ(0) − c1·t·φ'(0), whose minimisers satisfy sufficient
-    decrease, whenever the trial lowered φ below φ(t_l) but missed sufficient
-    decrease; otherwise, and in the second stage, it is φ itself. (That is how
-    the authors' implementation applies ψ; with it this class reproduces the
-    evaluation counts of the paper's Tables 1–6 as we recall them.) The next trial comes from the
-    four cases of §4:
-
-    1. higher value than at t_l: the cubic minimiser if it is closer to t_l than
-       the quadratic one (values at both ends, slope at t_l), else their mean;
-       the minimiser is now bracketed;
-    2. lower value and slopes of opposite sign: the cubic or the secant step,
-       whichever is farther from t; bracketed;
-    3. lower value, same slope sign, slope shrinking in magnitude: the cubic
-       minimiser beyond t (the bound when the cubic does not rise there) or the
-       secant step; inside a bracket the nearer of the two to t, at most 66% of
-       the way from t to t_u; outside, the farther, within the extrapolation
-       bounds;
-    4. lower value, same sign, slope not shrinking: the cubic through t and
-       t_u inside a bracket, else the extrapolation bound.
-
-    Before a bracket exists the next trial lies in [t + 1.1·(t − t_l),
-    t + 4·(t − t_l)]. Once bracketed, the midpoint is used whenever two trials
-    shrank the interval by less than a factor 0.66. A non-finite value (NaN or
-    ±inf in f or ∇f) makes that trial t_u and the next trial moves 90% of the
-    way back towards t_l.
+    Every trial evaluates the value and the gradient. How the trials are chosen
+    is described under Notes.
 
     Parameters
     ----------
@@ -81,10 +49,10 @@ class MoreThuente(StepController):
         Curvature constant, c1 <= c2 < 1. Default 0.9 (Nocedal & Wright §3.1 for
         Newton and quasi-Newton directions; use 0.1 for nonlinear conjugate
         gradients). c1 = c2 is legal, as in the paper's Tables 4–6.
-    xtol : float
-        Relative width, 0 <= xtol < 1, below which the interval counts as
-        collapsed (``interval_too_small``). Default 1e-10, our choice: the paper
-        leaves it to the caller.
+    width_rtol : float
+        The relative width of the interval of uncertainty below which it counts
+        as collapsed (``interval_too_small``), 0 <= width_rtol < 1. Default 1e-10,
+        our choice: the paper leaves it to the caller.
     initial : float or trial strategy
         The first trial step (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
         `ScaledTrial`, or a number).
@@ -107,8 +75,8 @@ class MoreThuente(StepController):
         ``step_too_small``: the trial reached `min_size` without sufficient
         decrease or with φ'(t) >= c1·φ'(0); `x` is the best point with sufficient
         decrease found, else unchanged with size 0.
-        ``interval_too_small``: the interval shrank below `xtol` (relative) or
-        to rounding level; as for ``step_too_small``.
+        ``interval_too_small``: the interval shrank below `width_rtol` (relative)
+        or to rounding level; as for ``step_too_small``.
         ``max_evaluations``: the budget ran out; as for ``step_too_small``.
         ``non_finite``: no trial had a finite value; `x` unchanged, size 0.
         ``not_descent``: φ'(0) >= 0; `x` unchanged, nothing evaluated.
@@ -136,19 +104,55 @@ class MoreThuente(StepController):
 
     >>> step.size < 0.5 and abs(float(step.gradient @ -g(x))) <= 0.9 * float(g(x) @ g(x))
     True
+
+    Notes
+    -----
+    The search keeps an interval [t_l, t_u] (either order) and a trial t. t_l
+    is the end with the least value of the working function, and its slope
+    points into the interval. Each trial replaces an end of the interval
+    (updating algorithm, paper §2). Until a trial meets ψ(t) ≤ 0 and
+    φ'(t) ≥ 0 (the first stage, paper §3) the working function is the auxiliary
+    ψ(t) = φ(t) − φ(0) − c1·t·φ'(0), whose minimisers satisfy sufficient
+    decrease, whenever the trial lowered φ below φ(t_l) but missed sufficient
+    decrease; otherwise, and in the second stage, it is φ itself. (That is how
+    the authors' implementation applies ψ; with it this class reproduces the
+    evaluation counts of the paper's Tables 1–6, which the tests also confirm
+    against scipy's port of that implementation.) The next trial comes from the
+    four cases of §4:
+
+    1. higher value than at t_l: the cubic minimiser if it is closer to t_l than
+       the quadratic one (values at both ends, slope at t_l), else their mean;
+       the minimiser is now bracketed;
+    2. lower value and slopes of opposite sign: the cubic or the secant step,
+       whichever is farther from t; bracketed;
+    3. lower value, same slope sign, slope shrinking in magnitude: the cubic
+       minimiser beyond t (the bound when the cubic does not rise there) or the
+       secant step; inside a bracket the nearer of the two to t, at most 66% of
+       the way from t to t_u; outside, the farther, within the extrapolation
+       bounds;
+    4. lower value, same sign, slope not shrinking: the cubic through t and
+       t_u inside a bracket, else the extrapolation bound.
+
+    Before a bracket exists the next trial lies in [t + 1.1·(t − t_l),
+    t + 4·(t − t_l)]. Once bracketed, the midpoint is used whenever two trials
+    shrank the interval by less than a factor 0.66. A non-finite value (NaN or
+    ±inf in f or ∇f) makes that trial t_u and the next trial moves 90% of the
+    way back towards t_l.
     """
 
-    _fields = ("c1", "c2", "xtol", "initial", "min_size", "max_size", "max_evaluations",
+    _fields = ("c1", "c2", "width_rtol", "initial", "min_size", "max_size", "max_evaluations",
                "record_trials")
 
-    def __init__(self, *, c1: float = 1e-4, c2: float = 0.9, xtol: float = 1e-10,
+    def __init__(self, *, c1: float = 1e-4, c2: float = 0.9, width_rtol: float = 1e-10,
                  initial: Any = 1.0, min_size: float = 0.0, max_size: float = 1e10,
                  max_evaluations: int = 40, record_trials: bool = False) -> None:
         super().__init__()
         self.c1, self.c2 = _validate.curvature_pair(c1, c2)
-        self.xtol = _validate.nonnegative("xtol", xtol)
-        if not self.xtol < 1.0:
-            raise ValueError(f"`xtol` must satisfy 0 <= xtol < 1; got xtol={xtol!r}.")
+        self.width_rtol = _validate.nonnegative("width_rtol", width_rtol)
+        if not self.width_rtol < 1.0:
+            raise ValueError(
+                f"`width_rtol` must satisfy 0 <= width_rtol < 1; got width_rtol={width_rtol!r}."
+            )
         self.initial = _initial.resolve(initial)
         self.min_size = _validate.nonnegative("min_size", min_size)
         self.max_size = _validate.positive("max_size", max_size)
@@ -160,12 +164,12 @@ class MoreThuente(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0, g0 = origin.value, origin.slope
         decrease = self.c1 * g0  # ψ(t) = φ(t) − (f0 + t·decrease), ψ'(t) = φ'(t) − decrease
-        flat = -self.c2 * g0
-        xtol, min_size, max_size = self.xtol, self.min_size, self.max_size
+        curvature_bound = -self.c2 * g0  # > 0: strong curvature is |φ'(t)| <= this
+        width_rtol, min_size, max_size = self.width_rtol, self.min_size, self.max_size
         size = first if first > min_size else min_size  # clipped to [min_size, max_size]
         if size > max_size:
             size = max_size
@@ -173,8 +177,9 @@ class MoreThuente(StepController):
         # The common case, an accepted first trial, returns before the setup below (the
         # loop's own test); otherwise the loop gets this point again from the ray's cache.
         point = evaluate(size)
-        if point.value <= f0 + size * decrease and -flat <= point.slope <= flat:
-            return point, Status.accepted
+        if (point.value <= f0 + size * decrease
+                and -curvature_bound <= point.slope <= curvature_bound):
+            return Outcome(point, Status.accepted)
         # The interval ends in φ terms: t_l (least working value) and t_u.
         lt, lf, lg = 0.0, f0, g0
         ut, uf, ug = 0.0, f0, g0
@@ -189,17 +194,17 @@ class MoreThuente(StepController):
             # Sufficient decrease in the paper's sum form (see the note in wolfe.py: the
             # curvature test keeps a rounding-level acceptance from stalling).
             sufficient = f0 + size * decrease
-            if f < INF:
+            if f < math.inf:
                 g = point.slope
                 if f <= sufficient:
-                    if -flat <= g <= flat:
-                        return point, Status.accepted
+                    if -curvature_bound <= g <= curvature_bound:
+                        return Outcome(point, Status.accepted)
                     if g >= 0.0:
                         auxiliary = False
                     elif size >= max_size and g <= decrease:
-                        return ray.best, Status.step_too_large
+                        return Outcome(ray.best, Status.step_too_large)
                 if size <= min_size and (f > sufficient or g >= decrease):
-                    return ray.best, Status.step_too_small
+                    return Outcome(ray.best, Status.step_too_small)
                 if auxiliary and sufficient < f <= lf:
                     # ψ differs from φ by a linear function: shift values and slopes.
                     wl, wt = lf - lt * decrease, f - size * decrease
@@ -221,9 +226,9 @@ class MoreThuente(StepController):
                     lt, lf, lg = size, f, g
             else:
                 if size <= min_size:
-                    return ray.best, Status.step_too_small
+                    return Outcome(ray.best, Status.step_too_small)
                 next_size = lt + NON_FINITE_SHRINK * (size - lt)
-                ut, uf, ug = size, INF, 0.0
+                ut, uf, ug = size, math.inf, 0.0
                 bracketed = True
             if bracketed:
                 span = abs(ut - lt)
@@ -240,10 +245,10 @@ class MoreThuente(StepController):
                 next_size = min_size
             if bracketed and (
                 not lower < next_size < upper
-                or upper - lower <= xtol * upper
+                or upper - lower <= width_rtol * upper
                 or upper - lower <= ray.rounding_size()
             ):
-                return ray.best, Status.interval_too_small
+                return Outcome(ray.best, Status.interval_too_small)
             size = next_size
 
 
@@ -288,7 +293,7 @@ def _next_trial(lt: float, lf: float, lg: float, t: float, f: float, g: float,
     # Case 4: the slope does not flatten.
     if not bracketed:
         return bound, False
-    if uf < INF:
+    if uf < math.inf:
         cubic = cubic_from_slopes(ut, uf, ug, t, f, g)
         if cubic is not None:
             return cubic, True

@@ -6,7 +6,7 @@ from collections import deque
 from typing import Any
 
 from linestep import _validate
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Ray
 from linestep.searches._backtrack import backtrack
 from linestep.searches.armijo import Armijo
@@ -124,16 +124,16 @@ class NonmonotoneArmijo(StepController):
         self._weight: float | None = None  # Q_k
         self._average: float | None = None  # C_k
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         reference = self._next_reference(origin.value)
         outcome = backtrack(ray, first, reference, self.c1, self.shrink, self.interpolation,
                             self.shrink_limits)
-        point = outcome[0]
+        point = outcome.point
         if point is not None and point.value > origin.value:
-            message = (f"The step raised f from {origin.value:.6g} to {point.value:.6g}, "
-                       f"within the nonmonotone reference {reference:.6g}.")
-            return point, outcome[1], message
+            return Outcome(point, outcome.status, (
+                f"The step raised f from {origin.value:.6g} to {point.value:.6g}, within "
+                f"the nonmonotone reference {reference:.6g}."))
         return outcome
 
     def _next_reference(self, value: float) -> float:

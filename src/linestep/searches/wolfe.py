@@ -6,7 +6,8 @@ import math
 from typing import Any
 
 from linestep import _initial, _validate
-from linestep._controller import StepController
+from linestep._constants import BISECT_UNLESS_SHRUNK, NON_FINITE_SHRINK
+from linestep._controller import Outcome, StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slope
 from linestep._ray import Point, Ray
 from linestep._step import Status
@@ -24,12 +25,8 @@ AGREE = 1e-3
 TRUSTED_MARGIN = 1e-6
 # ... an untrusted one this fraction (Nocedal & Wright §3.5 advise such a safeguard).
 MARGIN = 0.1
-# Zoom: bisect when two trials shrank the bracket by less than this factor (Moré–Thuente δ = 0.66).
-BISECT_UNLESS_SHRUNK = 0.66
 # Zoom: a value this many units of rounding above φ(t_lo) is a tie, decided by the slope.
 VALUE_TIE = 10.0
-# Zoom: a non-finite end is replaced by a trial this fraction of the way from the good end.
-NON_FINITE_SHRINK = 0.1
 
 
 class Wolfe(StepController):
@@ -143,7 +140,7 @@ class Wolfe(StepController):
         self.max_evaluations = _validate.integer("max_evaluations", max_evaluations)
         self.record_trials = bool(record_trials)
 
-    def _search(self, ray: Ray, first: float) -> tuple:
+    def _search(self, ray: Ray, first: float) -> Outcome:
         origin = ray.origin
         f0 = origin.value
         decrease = self.c1 * origin.slope  # < 0: φ(t) must lie below f0 + t·decrease
@@ -171,11 +168,11 @@ class Wolfe(StepController):
                 if slope is None:  # a non-finite gradient: the trial counts as too long
                     return self._zoom(ray, previous, point)
             if slope >= -flat and (slope <= flat or not strong):
-                return point, Status.accepted
+                return Outcome(point, Status.accepted)
             if slope >= 0.0:
                 return self._zoom(ray, point, previous)
             if size >= max_size:
-                return ray.best, Status.step_too_large
+                return Outcome(ray.best, Status.step_too_large)
             size = self._extrapolate(previous, point)
             previous = point
 
@@ -197,7 +194,7 @@ class Wolfe(StepController):
             model = low
         return model if model < self.max_size else self.max_size
 
-    def _zoom(self, ray: Ray, lo: Point, hi: Point) -> tuple:
+    def _zoom(self, ray: Ray, lo: Point, hi: Point) -> Outcome:
         """Alg. 3.6: shrink [lo, hi] (either order) until a trial satisfies both conditions.
 
         Invariants: `lo` has sufficient decrease and the lowest value so far; the
@@ -218,7 +215,7 @@ class Wolfe(StepController):
             a, b = lo.size, hi.size
             width = abs(b - a)
             if width <= floor or width <= eps * max(a, b):
-                return ray.best, Status.interval_too_small
+                return Outcome(ray.best, Status.interval_too_small)
             if width >= BISECT_UNLESS_SHRUNK * width_older:
                 size = 0.5 * (a + b)
             else:
@@ -248,7 +245,7 @@ class Wolfe(StepController):
                     hi = point
                     continue
             if slope >= -flat and (slope <= flat or not strong):
-                return point, Status.accepted
+                return Outcome(point, Status.accepted)
             if slope * (b - a) >= 0.0:
                 hi = lo
             lo = point

@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _validate
+from linestep._rebuild import Rebuilds
 
 # Floor for the scale of a relative value test, so that it stays defined when
 # both values are exactly zero (smallest normal double).
@@ -155,7 +156,7 @@ def _vector_norm(array: Any, order: float | int) -> float:
 # -------------------------------------------------------------------- base class
 
 
-class Criterion:
+class Criterion(Rebuilds):
     """Base class of the criteria here; gives ``|``, ``reset()`` and a repr.
 
     Subclasses either implement the private hook ``_test(progress)``, which
@@ -179,17 +180,6 @@ class Criterion:
 
     def reset(self) -> None:
         """Forget state kept between iterations (nothing, for stateless criteria)."""
-
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        # (keyword or None for positional, value) pairs for the repr.
-        return []
-
-    def __repr__(self) -> str:
-        parts = [
-            repr(value) if name is None else f"{name}={value!r}"
-            for name, value in self._arguments()
-        ]
-        return f"{type(self).__name__}({', '.join(parts)})"
 
     def __or__(self, other: Any) -> AnyOf:
         if not callable(other):

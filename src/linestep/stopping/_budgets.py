@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-from typing import Any
-
 from linestep import _validate
 from linestep.stopping._base import Criterion, Kind, Progress, _positive_seconds
 
@@ -24,8 +22,7 @@ class MaxIterations(Criterion):
     def __init__(self, n: int) -> None:
         self.n = _validate.integer("n", n, minimum=0)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [(None, self.n)]
+    _positional = ("n",)
 
     def _test(self, progress: Progress) -> tuple[Kind, str] | None:
         if progress.iteration < self.n:
@@ -55,8 +52,7 @@ class MaxEvaluations(Criterion):
     def __init__(self, n: int) -> None:
         self.n = _validate.integer("n", n, minimum=0)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [(None, self.n)]
+    _positional = ("n",)
 
     def _test(self, progress: Progress) -> tuple[Kind, str] | None:
         values = int(progress.evaluations.values)
@@ -86,8 +82,7 @@ class TimeLimit(Criterion):
     def __init__(self, seconds: float) -> None:
         self.seconds = _positive_seconds("seconds", seconds)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [(None, self.seconds)]
+    _positional = ("seconds",)
 
     def _test(self, progress: Progress) -> tuple[Kind, str] | None:
         elapsed = float(progress.elapsed)

@@ -58,8 +58,7 @@ class GradientNorm(Criterion):
         self.rtol = _relative("rtol", rtol)
         self.norm = _norm_order(norm)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [("atol", self.atol), ("rtol", self.rtol), ("norm", self.norm)]
+    _fields = ("atol", "rtol", "norm")
 
     def _relative_part(self, start_gradient: Any) -> float:
         if self.rtol == 0.0 or start_gradient is None:
@@ -115,8 +114,7 @@ class ValueChange(_History):
         self.window = _validate.integer("window", window, minimum=1)
         self._values: deque[float] = deque(maxlen=self.window + 1)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [("atol", self.atol), ("rtol", self.rtol), ("window", self.window)]
+    _fields = ("atol", "rtol", "window")
 
     def reset(self) -> None:
         """Forget the stored values."""
@@ -171,8 +169,7 @@ class StepLength(_History):
         self._previous: np.ndarray | None = None
         self._current: np.ndarray | None = None
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [("atol", self.atol), ("rtol", self.rtol), ("norm", self.norm)]
+    _fields = ("atol", "rtol", "norm")
 
     def reset(self) -> None:
         """Forget the stored points."""

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import math
-from typing import Any
 
 import numpy as np
 
@@ -53,8 +52,7 @@ class Divergence(Criterion):
         self.bound = _positive_seconds("bound", bound)
         self.growth = None if growth is None else _validate.nonnegative("growth", growth)
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [("bound", self.bound), ("growth", self.growth)]
+    _fields = ("bound", "growth")
 
     def _test(self, progress: Progress) -> tuple[Kind, str] | None:
         k = progress.iteration
@@ -113,8 +111,7 @@ class Stall(_History):
         self._previous: float | None = None  # the value at the last new iteration
         self._rises = 0  # iterations since the last improvement whose value rose
 
-    def _arguments(self) -> list[tuple[str | None, Any]]:
-        return [("iterations", self.iterations), ("rtol", self.rtol)]
+    _fields = ("iterations", "rtol")
 
     def reset(self) -> None:
         """Forget the best value."""
