@@ -33,9 +33,6 @@ LAYERS = [
 # Modules past this many lines are split (house rule); data modules are exempt.
 MAX_LINES = 700
 DATA_MODULES = {"linestep.bench._mgh"}
-# Being split on its own branch (issue 12, item 1): strict xfail, so the entry must be
-# removed once the split is merged.
-KNOWN_OVERSIZE = {"linestep.bench.harness"}
 
 
 def _module_name(path: Path) -> str:
@@ -143,11 +140,7 @@ def test_the_layer_check_catches_an_upward_import(tmp_path, monkeypatch):
         test_no_module_imports_upward("linestep._step")
 
 
-@pytest.mark.parametrize("module", [
-    pytest.param(module, marks=pytest.mark.xfail(
-        strict=True, reason="split on the bench branch; remove from KNOWN_OVERSIZE then"))
-    if module in KNOWN_OVERSIZE else module
-    for module in sorted(set(MODULES) - DATA_MODULES)])
+@pytest.mark.parametrize("module", sorted(set(MODULES) - DATA_MODULES))
 def test_no_source_module_is_over_the_size_limit(module):
     lines = len(MODULES[module].read_text(encoding="utf-8").splitlines())
     assert lines <= MAX_LINES, f"{module} has {lines} lines; split it by concern"
