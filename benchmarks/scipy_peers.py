@@ -29,7 +29,7 @@ import numpy as np
 from scipy.optimize import line_search, minimize
 
 from linestep import Objective
-from linestep._controller import StepController
+from linestep._controller import Outcome, StepController
 from linestep._ray import Point
 from linestep._step import Status
 
@@ -88,12 +88,12 @@ class ScipyLineSearch(StepController):
                                            c1=self.c1, c2=self.c2, maxiter=self.max_iterations)
         self.last_counts = (fc, gc)
         if size is None:
-            return None, Status.max_evaluations
+            return Outcome(None, Status.max_evaluations)
         x = origin.x + size * direction  # scipy's own expression, so the key matches
         before = objective.values + objective.gradients
         value, gradient = cached.value(x), cached.gradient(x)
         self.recomputed += objective.values + objective.gradients - before
-        return Point(size, x, value, gradient, float(gradient @ direction)), Status.accepted
+        return Outcome(Point(size, x, value, gradient, float(gradient @ direction)), Status.accepted)
 
 
 def lbfgsb_options(gradient_atol: float, max_iterations: int) -> dict[str, Any]:
