@@ -93,7 +93,8 @@ class ScipyLineSearch(StepController):
         before = objective.values + objective.gradients
         value, gradient = cached.value(x), cached.gradient(x)
         self.recomputed += objective.values + objective.gradients - before
-        return Outcome(Point(size, x, value, gradient, float(gradient @ direction)), Status.accepted)
+        point = Point(size, x, value, gradient, float(gradient @ direction))
+        return Outcome(point, Status.accepted)
 
 
 def lbfgsb_options(gradient_atol: float, max_iterations: int) -> dict[str, Any]:
