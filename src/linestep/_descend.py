@@ -44,9 +44,9 @@ class History:
     Examples
     --------
     >>> import numpy as np
-    >>> from linestep import descend
+    >>> from linestep import Armijo, descend
     >>> history = descend((lambda x: float(x @ x), lambda x: 2 * x),
-    ...                   np.array([3.0, -4.0])).history
+    ...                   np.array([3.0, -4.0]), controller=Armijo()).history
     >>> history.value, history.size, history.status
     (array([25.,  0.]), array([0. , 0.5]), ('start', 'accepted'))
     >>> history.values, history.gradients   # cumulative evaluations
@@ -81,8 +81,9 @@ class Run:
     Examples
     --------
     >>> import numpy as np
-    >>> from linestep import descend
-    >>> run = descend((lambda x: float(x @ x), lambda x: 2 * x), np.array([3.0, -4.0]))
+    >>> from linestep import Armijo, descend
+    >>> run = descend((lambda x: float(x @ x), lambda x: 2 * x), np.array([3.0, -4.0]),
+    ...               controller=Armijo())  # unit first trial: one cubic step here
     >>> run.converged, run.iterations, run.value, run.x
     (True, 1, 0.0, array([0., 0.]))
     >>> run.evaluations
