@@ -37,6 +37,7 @@ jax.config.update("jax_enable_x64", True)  # this script's own process only
 import jax.numpy as jnp  # noqa: E402
 import numpy as np  # noqa: E402
 from scipy.optimize import minimize  # noqa: E402
+from scipy_peers import MEMORY, lbfgsb_options, lbfgsb_settings  # noqa: E402
 
 import linestep  # noqa: E402
 import linestep.jax as lj  # noqa: E402
@@ -48,7 +49,6 @@ from linestep.searches.wolfe import Wolfe  # noqa: E402
 
 GRADIENT_ATOL = 1e-6
 MAX_ITERATIONS = 2000
-MEMORY = 10
 
 
 def time_compiled(x0: np.ndarray) -> tuple[float, int, int]:
@@ -82,8 +82,7 @@ def time_host(problem: linestep.bench.Problem, x0: np.ndarray) -> tuple[float, i
 def time_scipy(problem: linestep.bench.Problem, x0: np.ndarray) -> tuple[float, int, int]:
     began = time.perf_counter()
     result = minimize(problem.value_and_gradient, x0.copy(), jac=True, method="L-BFGS-B",
-                      options={"maxcor": MEMORY, "gtol": GRADIENT_ATOL, "ftol": 0.0,
-                               "maxiter": MAX_ITERATIONS, "maxfun": 10 * MAX_ITERATIONS})
+                      options=lbfgsb_options(GRADIENT_ATOL, MAX_ITERATIONS))
     elapsed = time.perf_counter() - began
     return elapsed / max(result.nit, 1), result.nit, result.nfev
 
@@ -107,9 +106,8 @@ def main() -> None:
     args = parser.parse_args()
     print(f"extended Rosenbrock, float64, L-BFGS (m = {MEMORY}); medians over "
           f"{args.repeats} repeats; JAX {jax.__version__} on {jax.default_backend()}")
-    print(f"  stop ‖∇f‖∞ ≤ {GRADIENT_ATOL:g} or {MAX_ITERATIONS} iterations; scipy L-BFGS-B: "
-          f"maxcor = {MEMORY}, gtol = {GRADIENT_ATOL:g}, ftol = 0 (the gradient test decides), "
-          f"maxiter = {MAX_ITERATIONS}, maxfun = {10 * MAX_ITERATIONS}, maxls = 20 (default)")
+    print(f"  stop ‖∇f‖∞ ≤ {GRADIENT_ATOL:g} or {MAX_ITERATIONS} iterations; "
+          + lbfgsb_settings(f"{GRADIENT_ATOL:g}", MAX_ITERATIONS))
     header = (f"{'n':>8}  {'compiled':>12} {'host':>12} {'scipy':>12}   "
               f"{'host/comp':>9} {'scipy/comp':>10}   iterations (c/h/s)   values (c/h/s)")
     print(header)

@@ -15,7 +15,7 @@ import pytest
 pytest.importorskip("scipy.optimize")
 
 sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[1] / "benchmarks"))
-from scipy_peers import ScipyLineSearch  # noqa: E402
+from scipy_peers import ScipyLineSearch, lbfgsb  # noqa: E402
 
 from linestep import LBFGS, Objective, descend, stopping  # noqa: E402
 from linestep.bench import get_problem  # noqa: E402
@@ -66,3 +66,28 @@ def test_a_whole_run_counts_what_scipy_counts(name):
     assert (run.evaluations.values, run.evaluations.gradients) == (adapter.fc + 1,
                                                                    adapter.gc + 1)
     assert adapter.recomputed == 0
+
+
+@pytest.mark.parametrize("name", ["rosenbrock", "wood"])
+def test_the_lbfgsb_peer_counts_what_scipy_counts(name):
+    # The L-BFGS-B peer gets f and ∇f fused, so each of scipy's nfev is one value and
+    # one gradient on our counter, nothing more.
+    problem = get_problem(name)
+    objective = Objective(problem.value, problem.gradient)
+    result = lbfgsb(objective, problem.start.copy(), 1e-8, 5000)
+    assert result.nfev > 10
+    assert (objective.values, objective.gradients) == (result.nfev, result.nfev)
+
+
+def test_the_scipy_cg_peer_counts_what_scipy_counts():
+    from scipy.optimize import minimize
+
+    problem = get_problem("rosenbrock")
+    objective = Objective(problem.value, problem.gradient)
+    result = minimize(objective.value_and_gradient, problem.start.copy(), jac=True,
+                      method="CG", options={"gtol": 1e-8, "norm": np.inf, "maxiter": 5000})
+    # Every call is fused, so our counter sees nfev values and nfev gradients. scipy's
+    # njev can read one less (its first gradient comes with the first value and is
+    # counted as a function call only), which is why the peer is counted by our counter.
+    assert result.nfev > 10 and result.njev in (result.nfev - 1, result.nfev)
+    assert (objective.values, objective.gradients) == (result.nfev, result.nfev)
