@@ -38,9 +38,16 @@ class _Previous:
         self.shape = shape
 
 
-def _flat_pair(owner: str, x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Flattened numpy copies of x and ∇f, both in x's floating dtype."""
-    x_np = np.array(x, copy=True)
+def _flat_views(owner: str, x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
+    """x and ∇f as flat numpy arrays in x's floating dtype, copied only when they must be.
+
+    A numpy caller's 1-D arrays come back as they are (read in place); a JAX or other
+    array is converted to numpy once.
+    """
+    if (x.__class__ is gradient.__class__ is np.ndarray and x.ndim == 1
+            and x.dtype is gradient.dtype and x.dtype.kind == "f" and x.shape == gradient.shape):
+        return x, gradient  # the common call from a loop
+    x_np = np.asarray(x)
     if x_np.dtype.kind == "c":
         raise TypeError(f"{owner} works with real arrays; got `x` of dtype {x_np.dtype}.")
     if x_np.dtype.kind != "f":
@@ -53,7 +60,15 @@ def _flat_pair(owner: str, x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarra
         )
     if g_np.dtype.kind == "c":
         raise TypeError(f"{owner} works with real arrays; got `gradient` of dtype {g_np.dtype}.")
-    return x_np.reshape(-1), np.array(g_np, dtype=x_np.dtype, copy=True).reshape(-1)
+    if g_np.dtype != x_np.dtype:
+        g_np = g_np.astype(x_np.dtype)
+    return x_np.reshape(-1), g_np.reshape(-1)
+
+
+def _flat_pair(owner: str, x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Flattened numpy copies of x and ∇f, both in x's floating dtype (kept across calls)."""
+    x_flat, g_flat = _flat_views(owner, x, gradient)
+    return x_flat.copy(), g_flat.copy()
 
 
 def _check_same_problem(owner: str, previous: _Previous | None, x: Any) -> None:

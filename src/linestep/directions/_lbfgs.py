@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _validate
-from linestep.directions._base import _as_output, _Rebuildable
+from linestep.directions._base import _as_output, _flat_views, _Rebuildable
 
 
 class LBFGS(_Rebuildable):
@@ -129,7 +129,7 @@ class LBFGS(_Rebuildable):
                 f"`x` has shape {shape} but the previous call to LBFGS had shape "
                 f"{self._shape}; call reset() before starting on a new problem."
             )
-        x_flat, g = _flat_views(x, gradient)
+        x_flat, g = _flat_views("LBFGS", x, gradient)
         with np.errstate(over="ignore", invalid="ignore"):  # overflow → skip or restart
             if self._pairs is None:
                 self._allocate(x_flat.size, x_flat.dtype)
@@ -291,33 +291,6 @@ class LBFGS(_Rebuildable):
         np.multiply(g, self._gamma, out=self._scaled)
         d -= self._scaled
         return d
-
-
-def _flat_views(x: Any, gradient: Any) -> tuple[np.ndarray, np.ndarray]:
-    """x and ∇f as flat numpy arrays in x's floating dtype, copied only when they must be.
-
-    LBFGS copies what it keeps into its own buffers, so a numpy caller's arrays are
-    read in place (a JAX or other array is converted to numpy once here).
-    """
-    if (x.__class__ is gradient.__class__ is np.ndarray and x.ndim == 1
-            and x.dtype is gradient.dtype and x.dtype.kind == "f" and x.shape == gradient.shape):
-        return x, gradient  # the common call from a loop
-    x_np = np.asarray(x)
-    if x_np.dtype.kind == "c":
-        raise TypeError(f"LBFGS works with real arrays; got `x` of dtype {x_np.dtype}.")
-    if x_np.dtype.kind != "f":
-        x_np = x_np.astype(np.float64)
-    g_np = np.asarray(gradient)
-    if g_np.shape != x_np.shape:
-        raise ValueError(
-            f"`gradient` must have the shape of `x`; got {g_np.shape} for `gradient` and "
-            f"{x_np.shape} for `x`."
-        )
-    if g_np.dtype.kind == "c":
-        raise TypeError(f"LBFGS works with real arrays; got `gradient` of dtype {g_np.dtype}.")
-    if g_np.dtype != x_np.dtype:
-        g_np = g_np.astype(x_np.dtype)
-    return x_np.reshape(-1), g_np.reshape(-1)
 
 
 def skip_floor(tolerance: float | None, dtype: Any) -> float:
