@@ -156,3 +156,32 @@ def not_negative_gradient(owner: str) -> ValueError:
         "multiple of -gradient, such as `-gradient` itself. For other directions "
         "(L-BFGS, nonlinear CG) use a line search such as NonmonotoneArmijo() or Armijo()."
     )
+
+
+# --- command-line option types (argparse `type=`): the same messages in every command --
+
+
+def option_positive_int(text: str) -> int:
+    """A command-line option's text as a positive integer, or argparse's usage error."""
+    import argparse
+
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}")
+    return value
+
+
+def option_positive_float(text: str) -> float:
+    """A command-line option's text as a positive number, or argparse's usage error."""
+    import argparse
+
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}") from None
+    if not value > 0:
+        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
+    return value

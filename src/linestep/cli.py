@@ -23,6 +23,8 @@ from pathlib import Path
 from typing import Any, TextIO
 
 from linestep import __version__, directions, stopping
+from linestep._validate import option_positive_float as _positive_float
+from linestep._validate import option_positive_int as _positive_int
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.rules.fallback import Fallback
 from linestep.rules.fixed import Fixed
@@ -77,7 +79,6 @@ your objective (--objective module:function or path/to/file.py:function): the
   linestep.bench.Problem, or a list of those. The current folder is searched
   first. See docs/bench/your_objective.md.
 """
-
 
 
 def _polyak_at_optimum() -> Any:
@@ -209,26 +210,6 @@ def _add_report(commands: Any) -> None:
                         help="write DIR/results.json (with histories)")
     report.add_argument("--figures", choices=("png", "svg"),
                         help="write each figure to DIR/figures/")
-
-
-def _positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}")
-    return value
-
-
-def _positive_float(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}") from None
-    if not value > 0:
-        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
-    return value
 
 
 # --- names to objects ---------------------------------------------------------------------

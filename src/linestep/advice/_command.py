@@ -13,6 +13,8 @@ import sys
 from pathlib import Path
 from typing import Any
 
+from linestep._validate import option_positive_int as _positive_int
+
 __all__ = ["add_parser", "run"]
 
 DEFAULT_OUT = "linestep-advice"
@@ -67,16 +69,6 @@ def add_parser(commands: Any) -> argparse.ArgumentParser:
                         help="print the advice as JSON (no progress, no report text)")
     parser.add_argument("--no-report", action="store_true", help="skip report.html")
     return parser
-
-
-def _positive_int(text: str) -> int:
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a positive integer, got {text!r}")
-    return value
 
 
 def _seeds(text: str | None) -> Any:
