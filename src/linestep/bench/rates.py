@@ -36,13 +36,16 @@ from typing import Any
 
 import numpy as np
 
+from linestep.bench import _identity
 from linestep.bench._study import PerProblem
-from linestep.bench.problems import Problem
+from linestep.bench.problems import SOLVE_RTOL, Problem
 
 __all__ = ["fallback_at_smoothness", "fixed_at_smoothness", "lipschitz_at_start"]
 
-# Estimates already made in this process, by (name, dimension, start).
-_CACHE: dict[tuple, float | None] = {}
+# Estimates already made in this process, by the problem's content fingerprint (name,
+# dimension, start bytes, f and ∇f there, optima): an edited objective of the same name
+# gets a new estimate, never a stale one.
+_CACHE: dict[str, float | None] = {}
 
 
 def lipschitz_at_start(problem: Problem) -> float | None:
@@ -52,7 +55,8 @@ def lipschitz_at_start(problem: Problem) -> float | None:
     (no fixed rate follows from the rule then).
     """
     x = np.array(problem.start, dtype=float).reshape(-1)
-    key = (problem.name, problem.dimension, x.tobytes())
+    key = _identity.digest_description(
+        _identity.fingerprint_problem(problem, x, solve_rtol=SOLVE_RTOL))
     if key not in _CACHE:
         _CACHE[key] = _estimate(problem, x)
     return _CACHE[key]
