@@ -138,22 +138,9 @@ class Ray:
             gradient = objective.gradient(last.x)
             return self._complete(last, gradient)
         x_new = self._take(size)
-        direction = self.direction
         value, gradient = objective.value_and_gradient(x_new)
         if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
-            product = None
-            if gradient.__class__ is _NDARRAY and gradient.ndim == 1:
-                try:
-                    product = gradient.dot(direction)
-                except ValueError:  # 1-D of another length: numpy refuses the product
-                    raise self._wrong_gradient(gradient, size) from None
-            # A real 1-D gradient against a 1-D direction gives a numpy float scalar; any
-            # other result (an array, a complex scalar) means another shape or dtype.
-            if product.__class__ is _FLOAT64 or product.__class__ is _FLOAT32:
-                slope = float(product)
-            else:  # other shapes, dtypes and array types: checked, never broadcast
-                gradient = self._checked(gradient, size)
-                slope = _array.dot(gradient, direction)
+            gradient, slope = self._slope(gradient, size)
             if isfinite(slope):
                 return self._store(Point(size, x_new, value, gradient, slope))
         self.non_finite += 1
@@ -161,11 +148,7 @@ class Ray:
 
     def _complete(self, point: Point, gradient: Any) -> Point:
         """Add the gradient and slope to a point whose value is cached."""
-        gradient = self._checked(gradient, point.size)
-        direction = self.direction
-        slope = (float(gradient.dot(direction))  # the numpy fast path of value_and_slope
-                 if gradient.__class__ is _NDARRAY and gradient.ndim == 1
-                 else _array.dot(gradient, direction))
+        gradient, slope = self._slope(gradient, point.size)
         point.gradient = gradient
         if isfinite(slope):
             point.slope = slope
@@ -197,6 +180,21 @@ class Ray:
                 f"`value` must be f(x); got value={supplied!r}, but the objective gives "
                 f"{true!r} at x. Pass value=f(x) at this x, or leave `value` out."
             )
+
+    def _slope(self, gradient: Any, size: float) -> tuple[Any, float]:
+        """The checked gradient at a trial point and φ' = ∇f·d there (never broadcast)."""
+        product = None
+        if gradient.__class__ is _NDARRAY and gradient.ndim == 1:
+            try:
+                product = gradient.dot(self.direction)
+            except ValueError:  # 1-D of another length: numpy refuses the product
+                raise self._wrong_gradient(gradient, size) from None
+        # A real 1-D gradient against a 1-D direction gives a numpy float scalar; any
+        # other result (an array, a complex scalar) means another shape or dtype.
+        if product.__class__ is _FLOAT64 or product.__class__ is _FLOAT32:
+            return gradient, float(product)
+        gradient = self._checked(gradient, size)  # other shapes, dtypes and array types
+        return gradient, _array.dot(gradient, self.direction)
 
     def _checked(self, gradient: Any, size: float) -> Any:
         """The gradient at a trial point as an array of x's shape, or a clear error.
