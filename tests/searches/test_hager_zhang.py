@@ -117,7 +117,7 @@ def test_unit_step_overshoot_takes_one_secant_step():
 def test_cubic_replaces_the_secant_while_values_inform():
     # Invented φ(t) = t³/3 − t/4: t = 1 has φ' > 0 (B1). The secant of φ' through 0 and
     # 1 gives 0.25; the cubic matching φ and φ' at both ends is φ itself, so its
-    # minimiser 0.5 is exact, and (T1)–(T2) hold there (our rule, see `_Walk.model`).
+    # minimiser 0.5 is exact, and (T1)–(T2) hold there (our rule, see `_BracketSearch.model`).
     f = lambda x: float(x[0] ** 3 / 3.0 - 0.25 * x[0])  # noqa: E731
     g = lambda x: np.array([x[0] ** 2 - 0.25])  # noqa: E731
     step, f0, d0 = run(HagerZhang(record_trials=True), f, g, np.zeros(1), np.ones(1))
@@ -337,7 +337,7 @@ def test_epsilon_zero_still_accepts_equal_values():
 
 def test_running_average_of_the_epsilon_scale():
     # [HZ06] §3 (recalled): Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f_k| − C_{k−1})/Q_k.
-    search = HagerZhang(epsilon_memory=0.7)
+    search = HagerZhang(memory_weight=0.7)
     values = []
     x = np.array([3.0, -4.0])
     for _ in range(3):
@@ -354,7 +354,7 @@ def test_running_average_of_the_epsilon_scale():
 
 
 def test_without_memory_the_scale_is_the_current_value():
-    search = HagerZhang(epsilon_memory=0.0)
+    search = HagerZhang(memory_weight=0.0)
     x = np.array([3.0, -4.0])
     for _ in range(2):
         value = square(x)
@@ -578,15 +578,15 @@ def test_start_rule_i1_fits_a_quadratic_through_one_probe():
 
 
 def test_repr_rebuilds():
-    search = HagerZhang(c1=0.2, c2=0.5, epsilon=1e-8, theta=0.4, shrink_test=0.5,
-                        expand=3.0, epsilon_memory=0.5, approximate_switch=1e-2,
+    search = HagerZhang(c1=0.2, c2=0.5, epsilon=1e-8, theta=0.4, bisect_threshold=0.5,
+                        expand=3.0, memory_weight=0.5, approximate_switch=1e-2,
                         initial=HagerZhangStart(),
                         max_size=1e6, max_evaluations=60, record_trials=True)
     namespace = {"HagerZhang": HagerZhang, "HagerZhangStart": HagerZhangStart}
     assert repr(eval(repr(search), namespace)) == repr(search)
     assert repr(HagerZhang()) == (
-        "HagerZhang(c1=0.1, c2=0.9, epsilon=1e-06, theta=0.5, shrink_test=0.66, "
-        "expand=5.0, epsilon_memory=0.7, approximate_switch=0.001, initial=1.0, "
+        "HagerZhang(c1=0.1, c2=0.9, epsilon=1e-06, theta=0.5, bisect_threshold=0.66, "
+        "expand=5.0, memory_weight=0.7, approximate_switch=0.001, initial=1.0, "
         "max_size=10000000000.0, "
         "max_evaluations=40, record_trials=False)"
     )

@@ -18,13 +18,9 @@ class LBFGS(_Rebuildable):
     Each call forms the pair s = x_k − x_{k−1}, y = ∇f_k − ∇f_{k−1} from the
     previous call and keeps the newest `memory` pairs. H_k·∇f is the product with
     the L-BFGS matrix of N&W eq. 7.19 (initial matrix H0 = γ·I, γ = sᵀy / yᵀy of
-    the newest pair, N&W eq. 7.20), computed in the compact form of Byrd, Nocedal
-    and Schnabel (1994): one product of the stored pairs with ∇f, one combination
-    of them, and O(m²) work on small m×m matrices kept up to date as pairs come
-    and go; the same matrix as the two-loop recursion (N&W Alg. 7.4), in a few
-    large array operations instead of about 4·m small ones. Cost per call: about
-    6·m·n multiply-adds; memory: 2·(m + 1)·n numbers in x's dtype, allocated once
-    (n = x.size, any shape is flattened and reshaped back).
+    the newest pair, N&W eq. 7.20). Cost per call: about 6·m·n multiply-adds;
+    memory: 2·(m + 1)·n numbers in x's dtype, allocated once (n = x.size, any
+    shape is flattened and reshaped back; see Notes).
 
     Rules:
 
@@ -69,6 +65,14 @@ class LBFGS(_Rebuildable):
         Pairs currently held.
     skipped : int
         Pairs skipped by the curvature rule since the last reset.
+
+    Notes
+    -----
+    The product is computed in the compact form of Byrd, Nocedal and Schnabel
+    (1994): one product of the stored pairs with ∇f, one combination of them, and
+    O(m²) work on small m×m matrices kept up to date as pairs come and go. It is
+    the same matrix as the two-loop recursion (N&W Alg. 7.4), in a few large array
+    operations instead of about 4·m small ones.
 
     References
     ----------

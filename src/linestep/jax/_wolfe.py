@@ -61,9 +61,9 @@ class WolfeSearch(CompiledSearch):
     _needs_slope = True
     _track_best = True
 
-    def _curvature(self, slope: Any, flat: Any) -> Any:
-        ok = slope >= -flat
-        return ok & (slope <= flat) if self.strong else ok
+    def _curvature(self, slope: Any, curvature_bound: Any) -> Any:
+        ok = slope >= -curvature_bound
+        return ok & (slope <= curvature_bound) if self.strong else ok
 
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
         outcome, previous, point, tally = self._bracket(line, first, active)
@@ -85,7 +85,7 @@ class WolfeSearch(CompiledSearch):
     def _bracket(self, line: Line, first: Any, active: Any) -> tuple:
         f0 = line.value
         decrease = self.c1 * line.slope
-        flat = -self.c2 * line.slope
+        curvature_bound = -self.c2 * line.slope
         max_size = self.max_size
 
         def keep_going(carry: tuple) -> Any:
@@ -97,7 +97,7 @@ class WolfeSearch(CompiledSearch):
             point, tally = line.evaluate(size, tally, gradient=True)
             value, slope = point.value, point.slope
             fails = (value > f0 + size * decrease) | (value >= previous[1])
-            accept = ~fails & self._curvature(slope, flat)
+            accept = ~fails & self._curvature(slope, curvature_bound)
             turned = ~fails & ~accept & (slope >= 0.0)
             too_large = ~fails & ~accept & ~turned & (size >= max_size)
             outcome = jnp.select([fails, accept, turned, too_large],
@@ -132,7 +132,7 @@ class WolfeSearch(CompiledSearch):
               active: Any) -> tuple:
         f0 = line.value
         decrease = self.c1 * line.slope
-        flat = -self.c2 * line.slope
+        curvature_bound = -self.c2 * line.slope
         floor = line.rounding_size()
         eps = _tree.epsilon(line.x)
         tie = VALUE_TIE * eps
@@ -162,7 +162,7 @@ class WolfeSearch(CompiledSearch):
             a, b = lo[0], hi[0]
             # A value within `tie` rounding units above φ(t_lo) counts as a tie.
             fails = (value > f0 + size * decrease) | (value - lo[1] > tie * jnp.abs(value))
-            accept = ~fails & self._curvature(slope, flat)
+            accept = ~fails & self._curvature(slope, curvature_bound)
             flip = ~fails & (slope * (b - a) >= 0.0)
             new_hi = _pick(fails, _ends(point), _pick(flip, lo, hi))
             new_lo = _pick(fails, lo, _ends(point))

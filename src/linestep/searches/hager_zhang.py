@@ -50,76 +50,42 @@ class HagerZhang(StepController):
 
     * φ(t) − φ(0) ≤ c1·t·φ'(0) and φ'(t) ≥ c2·φ'(0) ("T1"–"T2"),
 
-    or the approximate Wolfe conditions hold together with a bound on the rise,
+    or, once the values have settled (see `approximate_switch`), the approximate
+    Wolfe conditions hold together with a bound on the rise,
 
-    * (2·c1 − 1)·φ'(0) ≥ φ'(t) ≥ c2·φ'(0) ("AW") and φ(t) ≤ φ(0) + ε_k
+    * (2·c1 − 1)·φ'(0) ≥ φ'(t) ≥ c2·φ'(0) ("AW") and φ(t) ≤ φ(0) + ε_k,
 
-    (Hager & Zhang 2005, §4; the labels T1, T2, AW and the step names B, U, S, L
-    below follow the papers as we recall them).
-
-    where ε_k = `epsilon`·C_k. The approximate conditions replace the decrease
-    test by a test on φ', which stays meaningful where differences in f are lost
-    to rounding: a test on values locates a minimiser to about √ε_mach, one on
-    slopes to about ε_mach (Hager & Zhang 2005, §4; recalled from memory).
-
-    Every trial evaluates φ and φ'. The first trial grows by `expand` until it
-    brackets a point with φ' ≥ 0 or with φ above φ(0) + ε_k (procedure *bracket*,
-    B0–B3); the bracket [a, b] then keeps φ'(a) < 0, φ(a) ≤ φ(0) + ε_k and
-    φ'(b) ≥ 0 and shrinks by secant² steps (S1–S4): a secant step on φ', and a
-    second secant step from the end it replaced. Where the values at the bracket's
-    ends differ by more than 10·ε_k, each of the two steps is instead the minimiser
-    of the cubic matching φ and φ' at both ends when it lies inside (our choice: it
-    uses the values, which the secant ignores, and needs fewer trials while they are
-    above rounding level), until a pass ends in the L2 bisection. Each new point
-    updates the bracket
-    by U0–U3; U3 (a point with φ' < 0 above φ(0) + ε_k) bisects with weight
-    `theta` (U3a–c). When a secant² step keeps more than `shrink_test` of the
-    width, the bracket is bisected (L2). Non-finite values count as "too long":
-    the next trial moves to a tenth of the way from the lower end.
-
-    The scale C_k of ε_k is the running average of Hager & Zhang (2006, §3),
-    Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f(x_k)| − C_{k−1})/Q_k with Q_{−1} = 0,
-    and Δ = `epsilon_memory`. The default Δ = 0.7 is CG_DESCENT's choice
-    (recalled from memory); Δ = 0 gives C_k = |f(x_k)|, the rule of the 2005 paper.
-
-    The approximate Wolfe conditions are used only once the values settle: from
-    the first call with |f(x_k) − f(x_{k−1})| ≤ ω·C_k on (ω = `approximate_switch`;
-    Hager & Zhang 2006, §3, as we recall it), where f(x_{k−1}) is φ(0) of the previous
-    call; until then a step must meet (T1)–(T2), and the value tests of the bracket
-    rules (B2, U2, U3b) compare φ(t) − δ·t·φ'(0) with φ(0) + ε_k, so that
-    the bracket cannot grow past every step with sufficient decrease. The search
-    thus keeps state between calls, meant as successive iterations x_k of one
-    descent: C_k, Q_k, the previous φ(0) and the switch; `reset()` clears them (a
-    fresh or reset search starts with the standard Wolfe conditions). ω = inf uses
-    the approximate conditions from the first call, as the 2005 paper does.
+    where ε_k = `epsilon`·C_k and C_k is a running average of |f| over the calls.
+    The approximate conditions test φ' instead of differences of φ, which stay
+    meaningful where those differences are lost to rounding. The search keeps state
+    between calls, meant as successive iterations x_k of one descent (C_k and the
+    switch); `reset()` clears it. How a trial is found is in Notes.
 
     Parameters
     ----------
     c1 : float
-        δ, 0 < c1 < 1/2. Default 0.1 (Hager & Zhang 2005, §4; 2006, §3; recalled
-        from memory).
+        δ, 0 < c1 < 1/2: the sufficient-decrease constant. Default 0.1 (2005, §4).
     c2 : float
-        σ, c1 <= c2 < 1. Default 0.9 (same sources; recalled from memory).
+        σ, c1 <= c2 < 1: the curvature constant. Default 0.9 (2005, §4).
     epsilon : float
         ε >= 0, the relative rise allowed by the approximate Wolfe test.
-        Default 1e-6 (same sources; recalled from memory).
+        Default 1e-6 (2005, §4).
     theta : float
-        θ, 0 < theta < 1, position of the U3 bisection point. Default 0.5 (same
-        sources; recalled from memory).
-    shrink_test : float
-        γ, 0 < shrink_test < 1: bisect when a secant² step keeps more than this
-        fraction of the bracket. Default 0.66 (same sources; recalled from memory).
+        θ, 0 < theta < 1, where the U3 step bisects a bracket whose interior point
+        lies above φ(0) + ε_k. Default 0.5 (2005, §4).
+    bisect_threshold : float
+        γ, 0 < bisect_threshold < 1: bisect the bracket when a secant² pass keeps
+        more than this fraction of its width. Default 0.66 (2005, §4).
     expand : float
-        ρ > 1, growth factor of the bracketing phase. Default 5 (Hager & Zhang 2006,
-        parameter list of CG_DESCENT; recalled from memory).
-    epsilon_memory : float
-        Δ, 0 <= epsilon_memory <= 1, weight of earlier |f| in C_k (see above).
-        Default 0.7 (CG_DESCENT; recalled from memory); 0 is the 2005 rule.
+        ρ > 1, growth factor of the bracketing phase. Default 5 (2006, parameter
+        list of CG_DESCENT).
+    memory_weight : float
+        Δ, 0 <= memory_weight <= 1, the weight of earlier |f(x_j)| in C_k (see
+        Notes). Default 0.7 (2006); 0 gives C_k = |f(x_k)|, the 2005 rule.
     approximate_switch : float
         ω >= 0: the approximate Wolfe conditions apply from the first call with
-        |f(x_k) − f(x_{k−1})| ≤ ω·C_k on, until `reset()` (see above). Default 1e-3
-        (Hager & Zhang 2006; recalled from memory); ``inf`` applies them from the
-        first call.
+        |f(x_k) − f(x_{k−1})| ≤ ω·C_k on, until `reset()`. Default 1e-3 (2006, §3);
+        ``inf`` applies them from the first call, as the 2005 paper does.
     initial : float or trial strategy
         The first trial (`UnitTrial`, `PreviousTrial`, `QuadraticTrial`,
         `ScaledTrial`, `HagerZhangStart` for the paper's I0 and I2, or a number).
@@ -143,12 +109,45 @@ class HagerZhang(StepController):
         ``non_finite``: no trial had a finite value; `x` unchanged.
         ``not_descent``: φ'(0) >= 0; `x` unchanged, nothing evaluated.
 
+    Notes
+    -----
+    Every trial evaluates φ and φ'. The first trial grows by `expand` until it
+    brackets a point with φ' ≥ 0 or with φ above φ(0) + ε_k (procedure *bracket*,
+    B0–B3); the bracket [a, b] then keeps φ'(a) < 0, φ(a) ≤ φ(0) + ε_k and
+    φ'(b) ≥ 0 and shrinks by secant² steps (S1–S4): a secant step on φ', and a
+    second secant step from the end it replaced. Where the values at the bracket's
+    ends differ by more than 10·ε_k, each of the two steps is instead the minimiser
+    of the cubic matching φ and φ' at both ends when it lies inside (our choice: it
+    uses the values, which the secant ignores, and needs fewer trials while they are
+    above rounding level), until a pass ends in the L2 bisection. Each new point
+    updates the bracket by U0–U3; U3 (a point with φ' < 0 above φ(0) + ε_k)
+    bisects with weight `theta` (U3a–c). When a secant² pass keeps more than
+    `bisect_threshold` of the width, the bracket is bisected (L2). Non-finite values
+    count as "too long": the next trial moves to a tenth of the way from the lower
+    end.
+
+    A test on values locates a minimiser of φ to about √ε_mach, one on slopes to
+    about ε_mach (2005, §4); hence the approximate conditions near a minimiser.
+
+    The scale of ε_k is the running average of the 2006 paper (§3),
+    Q_k = 1 + Δ·Q_{k−1}, C_k = C_{k−1} + (|f(x_k)| − C_{k−1})/Q_k with Q_{−1} = 0
+    and Δ = `memory_weight`.
+
+    The approximate Wolfe conditions are switched on for good at the first call
+    with |f(x_k) − f(x_{k−1})| ≤ ω·C_k (2006, §3), where f(x_{k−1}) is φ(0) of the
+    previous call. Until then a step must meet (T1)–(T2), and the value tests of the
+    bracket rules (B2, U2, U3b) compare φ(t) − δ·t·φ'(0) with φ(0) + ε_k, so that
+    the bracket cannot grow past every step with sufficient decrease. A fresh or
+    reset search starts with the standard Wolfe conditions.
+
     References
     ----------
     W. W. Hager and H. Zhang, "A new conjugate gradient method with guaranteed
     descent and an efficient line search", SIAM J. Optim. 16(1):170–192, 2005, §4.
     W. W. Hager and H. Zhang, "Algorithm 851: CG_DESCENT, a conjugate gradient
     method with guaranteed descent", ACM TOMS 32(1):113–137, 2006.
+    The step labels (T1, T2, AW, B, U, S, L), the default values and the section
+    numbers cited above are recalled from memory of these two papers.
 
     Examples
     --------
@@ -162,13 +161,13 @@ class HagerZhang(StepController):
     (Status.accepted, 0.5, 0.0, Evaluations(values=3, gradients=3))
     """
 
-    _fields = ("c1", "c2", "epsilon", "theta", "shrink_test", "expand", "epsilon_memory",
+    _fields = ("c1", "c2", "epsilon", "theta", "bisect_threshold", "expand", "memory_weight",
                "approximate_switch", "initial", "max_size", "max_evaluations",
                "record_trials")
 
     def __init__(self, *, c1: float = 0.1, c2: float = 0.9, epsilon: float = 1e-6,
-                 theta: float = 0.5, shrink_test: float = 0.66, expand: float = 5.0,
-                 epsilon_memory: float = 0.7, approximate_switch: float = 1e-3,
+                 theta: float = 0.5, bisect_threshold: float = 0.66, expand: float = 5.0,
+                 memory_weight: float = 0.7, approximate_switch: float = 1e-3,
                  initial: Any = 1.0, max_size: float = 1e10, max_evaluations: int = 40,
                  record_trials: bool = False) -> None:
         super().__init__()
@@ -180,9 +179,9 @@ class HagerZhang(StepController):
             )
         self.epsilon = _validate.nonnegative("epsilon", epsilon)
         self.theta = _validate.open_unit("theta", theta)
-        self.shrink_test = _validate.open_unit("shrink_test", shrink_test)
+        self.bisect_threshold = _validate.open_unit("bisect_threshold", bisect_threshold)
         self.expand = _validate.within("expand", expand, 1.0, math.inf)  # > 1: trials grow
-        self.epsilon_memory = _validate.within("epsilon_memory", epsilon_memory, 0.0, 1.0,
+        self.memory_weight = _validate.within("memory_weight", memory_weight, 0.0, 1.0,
                                                include_low=True, include_high=True)
         self.approximate_switch = _validate.within(  # ω; inf: from the first call
             "approximate_switch", approximate_switch, 0.0, INF, include_low=True,
@@ -203,12 +202,12 @@ class HagerZhang(StepController):
         origin = ray.origin
         f0, d0, c1 = origin.value, origin.slope, self.c1
         # ε_k = ε·C_k after folding |f(x_k)| into the running average C_k (2006, §3).
-        weight = 1.0 + self.epsilon_memory * self._weight
+        weight = 1.0 + self.memory_weight * self._weight
         scale = self._scale + (abs(f0) - self._scale) / weight
         self._weight, self._scale = weight, scale
         epsilon_k = self.epsilon * scale
         # The approximate conditions are switched on for good once
-        # |f(x_k) − f(x_{k−1})| ≤ ω·C_k (Hager & Zhang 2006, §3; recalled from memory).
+        # |f(x_k) − f(x_{k−1})| ≤ ω·C_k (Hager & Zhang 2006, §3, as we recall it).
         approximate = self._approximate
         if not approximate:
             previous, switch = self._previous_value, self.approximate_switch
@@ -217,7 +216,7 @@ class HagerZhang(StepController):
         self._previous_value = f0
         size = first if first < self.max_size else self.max_size
         # The first trial is tested here, so that the common case of an accepted
-        # first trial skips building the walk (same tests as `_Walk.probe`).
+        # first trial skips building the bracket search (same tests as `_BracketSearch.probe`).
         point = ray.value_and_slope(size)
         slope = point.slope
         if slope is not None and slope >= self.c2 * d0:
@@ -226,25 +225,25 @@ class HagerZhang(StepController):
             if (approximate and slope <= (2.0 * c1 - 1.0) * d0
                     and point.value <= f0 + epsilon_k):
                 return Outcome(point, Status.accepted, _APPROXIMATE)
-        walk = _Walk(self, ray, epsilon_k, approximate)
+        bracketing = _BracketSearch(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
-            low, high = walk.bracket(size)
-            shrink_test = self.shrink_test
+            low, high = bracketing.bracket(size)
+            bisect_threshold = self.bisect_threshold
             width = high.size - low.size
             while True:  # L1–L3
-                low, high = walk.secant2(low, high)
-                if high.size - low.size > shrink_test * width:
-                    walk.informative = INF  # the cubic did not pay: secants from now on
-                    low, high = walk.update(low, high, 0.5 * (low.size + high.size))
+                low, high = bracketing.secant2(low, high)
+                if high.size - low.size > bisect_threshold * width:
+                    bracketing.informative = INF  # the cubic did not pay: secants from now on
+                    low, high = bracketing.update(low, high, 0.5 * (low.size + high.size))
                 # From the second pass on: a fresh bracket is rarely at rounding level,
                 # and skipping the first check saves two array norms per call.
-                width = walk.check_width(low, high)
+                width = bracketing.check_width(low, high)
         except _Stop as stop:
             return stop.outcome
 
 
-class _Walk:
+class _BracketSearch:
     """One call's search: the thresholds as floats and the paper's procedures."""
 
     __slots__ = ("ray", "f0", "d0", "c1", "limit", "curvature", "approximate", "theta",
@@ -389,17 +388,18 @@ class HagerZhangStart(Rebuilds):
     φ'(0) and that value when the value is no higher than φ(0) and the quadratic
     is strictly convex; otherwise (or with ``probe=None``) I2 takes t = growth·t_prev.
     I1 makes the first trial nearly exact where φ is close to quadratic, which
-    conjugate-gradient directions need to stay conjugate.
+    conjugate-gradient directions need to stay conjugate. The rules' names and
+    defaults are recalled from memory of the 2006 paper.
 
     Parameters
     ----------
     fraction : float
-        ψ0, default 0.01 (Hager & Zhang 2006; recalled from memory).
+        ψ0, default 0.01 (Hager & Zhang 2006, §3).
     growth : float
-        ψ2, default 2 (same source; recalled from memory).
+        ψ2, default 2 (same source).
     probe : float or None
-        ψ1, 0 < probe < 1, where I1 probes φ; default 0.1 (same source; recalled
-        from memory). None switches I1 off (I2 only).
+        ψ1, 0 < probe < 1, where I1 probes φ; default 0.1 (same source). None
+        switches I1 off (I2 only).
 
     Examples
     --------

@@ -38,29 +38,10 @@ class Wolfe(StepController):
     * curvature, strong form (``strong=True``): |φ'(t)| ≤ c2·|φ'(0)|;
       weak form (``strong=False``): φ'(t) ≥ c2·φ'(0).
 
-    The search has two phases (Nocedal & Wright 2006, Alg. 3.5 and 3.6). The
-    bracketing phase grows the trial until it either satisfies both conditions
-    or brackets an acceptable step: the trial fails sufficient decrease, does
-    not improve on the previous trial, or has φ' ≥ 0. Each new bracketing trial
-    is the minimiser of the cubic through the last two trials, kept in
-    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``, or the upper end when
-    that minimiser does not lie beyond t (Moré & Thuente's rule). The zoom phase then
-    narrows the bracket [t_lo, t_hi], where t_lo is the trial with sufficient
-    decrease and the least value so far, with trials at the minimiser of the
-    cubic that matches φ and φ' at both ends. The trial stays a tenth of the
-    bracket away from either end unless the quadratic through φ(t_lo),
-    φ'(t_lo), φ(t_hi) agrees with the cubic (then the model is trusted almost up
-    to the ends: on a quadratic φ the exact minimiser is the next trial however
-    close to an end it lies). The midpoint is used when two trials shrank the
-    bracket by less than a factor 0.66 (the safeguard of Moré & Thuente 1994),
-    and values within rounding of φ(t_lo) count as ties, decided by the slope.
-    Each trial evaluates the value, and the gradient only when the trial passes
-    the decrease tests (as Alg. 3.5–3.6 do); a rejected end of the bracket without
-    a slope is modelled by the quadratic, and its slope is evaluated only when
-    that quadratic points within the margin of an end twice running. A
-    non-finite value (NaN
-    or ±inf in f or ∇f) makes that trial the too-long end of the bracket, and
-    the next trial moves 90% of the way back towards the good end.
+    The search brackets an acceptable step by growing the trial, then narrows the
+    bracket by safeguarded cubic interpolation (Nocedal & Wright 2006, Alg. 3.5 and
+    3.6); a trial with a non-finite value or gradient counts as too long. The
+    details are in Notes.
 
     Parameters
     ----------
@@ -101,6 +82,31 @@ class Wolfe(StepController):
         ``max_evaluations``: the budget ran out; as for ``interval_too_small``.
         ``non_finite``: no trial had a finite value; `x` unchanged, size 0.
         ``not_descent``: φ'(0) >= 0; `x` unchanged, nothing evaluated.
+
+    Notes
+    -----
+    The search has two phases (Nocedal & Wright 2006, Alg. 3.5 and 3.6). The
+    bracketing phase grows the trial until it either satisfies both conditions
+    or brackets an acceptable step: the trial fails sufficient decrease, does
+    not improve on the previous trial, or has φ' ≥ 0. Each new bracketing trial
+    is the minimiser of the cubic through the last two trials, kept in
+    ``[t + 1.1·(t − t_prev), t + expand·(t − t_prev)]``, or the upper end when
+    that minimiser does not lie beyond t (Moré & Thuente's rule). The zoom phase
+    then narrows the bracket [t_lo, t_hi], where t_lo is the trial with sufficient
+    decrease and the least value so far, with trials at the minimiser of the
+    cubic that matches φ and φ' at both ends. The trial stays a tenth of the
+    bracket away from either end unless the quadratic through φ(t_lo),
+    φ'(t_lo), φ(t_hi) agrees with the cubic (then the model is trusted almost up
+    to the ends: on a quadratic φ the exact minimiser is the next trial however
+    close to an end it lies). The midpoint is used when two trials shrank the
+    bracket by less than a factor 0.66 (the safeguard of Moré & Thuente 1994),
+    and values within rounding of φ(t_lo) count as ties, decided by the slope.
+    Each trial evaluates the value, and the gradient only when the trial passes
+    the decrease tests (as Alg. 3.5–3.6 do); a rejected end of the bracket without
+    a slope is modelled by the quadratic, and its slope is evaluated only when
+    that quadratic points within the margin of an end twice running. A non-finite
+    value (NaN or ±inf in f or ∇f) makes that trial the too-long end of the
+    bracket, and the next trial moves 90% of the way back towards the good end.
 
     References
     ----------
@@ -144,7 +150,7 @@ class Wolfe(StepController):
         origin = ray.origin
         f0 = origin.value
         decrease = self.c1 * origin.slope  # < 0: φ(t) must lie below f0 + t·decrease
-        flat = -self.c2 * origin.slope  # > 0: the curvature bound on φ'(t)
+        curvature_bound = -self.c2 * origin.slope  # > 0: the bound c2·|φ'(0)| on φ'(t)
         strong = self.strong
         max_size = self.max_size
         evaluate, complete = ray.value, ray.value_and_slope
@@ -167,7 +173,7 @@ class Wolfe(StepController):
                 slope = point.slope
                 if slope is None:  # a non-finite gradient: the trial counts as too long
                     return self._zoom(ray, previous, point)
-            if slope >= -flat and (slope <= flat or not strong):
+            if slope >= -curvature_bound and (slope <= curvature_bound or not strong):
                 return Outcome(point, Status.accepted)
             if slope >= 0.0:
                 return self._zoom(ray, point, previous)
@@ -203,7 +209,7 @@ class Wolfe(StepController):
         origin = ray.origin
         f0 = origin.value
         decrease = self.c1 * origin.slope
-        flat = -self.c2 * origin.slope
+        curvature_bound = -self.c2 * origin.slope
         strong = self.strong
         evaluate, complete = ray.value, ray.value_and_slope
         floor = ray.rounding_size()
@@ -244,7 +250,7 @@ class Wolfe(StepController):
                 if slope is None:  # a non-finite gradient: too long
                     hi = point
                     continue
-            if slope >= -flat and (slope <= flat or not strong):
+            if slope >= -curvature_bound and (slope <= curvature_bound or not strong):
                 return Outcome(point, Status.accepted)
             if slope * (b - a) >= 0.0:
                 hi = lo
