@@ -26,6 +26,9 @@ pytestmark = pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals a
 SOURCE = Path(linestep.__file__).resolve().parents[1]
 # Seconds to wait before calling a process hung (far above what a healthy run takes).
 HANG = 30.0
+# Problems in the studies that are interrupted: enough (at 0.02 s per value, several values
+# a run) that the study is still running when the signal comes, even on a loaded machine.
+STUDY_LENGTH = 60
 
 OBJECTIVE = """
 import os, time
@@ -155,7 +158,7 @@ def test_a_half_made_results_file_is_rebuilt_not_refused(tmp_path: Path) -> None
 
 
 def test_ctrl_c_twice_ends_the_command_and_every_worker(tmp_path: Path) -> None:
-    folder = _folder(tmp_path, delay=0.02, count=8)
+    folder = _folder(tmp_path, delay=0.02, count=STUDY_LENGTH)
     process = _bench(folder, "--controllers", "armijo,wolfe", "--workers", "2",
                      "--max-iterations", "100000", "--out", "out", start_new_session=True)
     workers = _wait_for_workers(folder, process, 2)
@@ -170,7 +173,7 @@ def test_ctrl_c_twice_ends_the_command_and_every_worker(tmp_path: Path) -> None:
 
 
 def test_workers_exit_by_themselves_when_the_parent_is_killed(tmp_path: Path) -> None:
-    folder = _folder(tmp_path, delay=0.02, count=8)
+    folder = _folder(tmp_path, delay=0.02, count=STUDY_LENGTH)
     process = _bench(folder, "--controllers", "armijo,wolfe", "--workers", "2",
                      "--max-iterations", "100000", "--out", "out", start_new_session=True)
     workers = _wait_for_workers(folder, process, 2)
