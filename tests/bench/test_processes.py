@@ -77,6 +77,16 @@ def _bench(folder: Path, *arguments: str, **options) -> subprocess.Popen:
         **options)
 
 
+def _interruptible() -> None:
+    """In the child: SIGINT at its default, as under a terminal.
+
+    A shell starts background jobs with SIGINT ignored, and an ignored signal stays
+    ignored across exec, so a suite run with `&` would otherwise test a command that
+    cannot be interrupted at all.
+    """
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 def _alive(pid: int) -> bool:
     try:
         with open(f"/proc/{pid}/stat") as handle:
@@ -160,7 +170,8 @@ def test_a_half_made_results_file_is_rebuilt_not_refused(tmp_path: Path) -> None
 def test_ctrl_c_twice_ends_the_command_and_every_worker(tmp_path: Path) -> None:
     folder = _folder(tmp_path, delay=0.02, count=STUDY_LENGTH)
     process = _bench(folder, "--controllers", "armijo,wolfe", "--workers", "2",
-                     "--max-iterations", "100000", "--out", "out", start_new_session=True)
+                     "--max-iterations", "100000", "--out", "out", start_new_session=True,
+                     preexec_fn=_interruptible)
     workers = _wait_for_workers(folder, process, 2)
     os.killpg(process.pid, signal.SIGINT)  # what a terminal sends: the whole group
     time.sleep(0.1)
