@@ -518,7 +518,7 @@ def test_default_members_and_order():
         Stall,
     ]
     assert repr(stop) == (
-        "Divergence(bound=1e+100, growth=100000000.0) | GradientNorm(atol=1e-06, rtol=1e-08, "
+        "Divergence(bound=1e+100, growth=100000000.0) | GradientNorm(atol=1e-06, rtol=0.0, "
         "norm=inf) | ValueChange(atol=0.0, rtol=1e-12, window=5) | MaxIterations(10000) | "
         "Stall(iterations=100, rtol=0.0)"
     )

@@ -88,11 +88,24 @@ def test_steps_are_clipped():
                    np.array([1.0, 1.0]), 1)
     assert steps[0].size == 10.0
     # A tiny curvature ratio is lifted to min_size: f = ½·1e-12·x² gives sᵀs/sᵀy = 1e12,
-    # clipped to max_size; on ½·1e12·x² it is 1e-12, lifted to min_size = 1e-10.
+    # clipped to max_size; on ½·1e12·x² it is 1e-12, lifted to min_size = 1e-10. The
+    # first step is not lifted: it comes from `first`, not from a BB quotient.
     f, g = bowl([1e12])
     _, steps = run(BarzilaiBorwein(first=1e-13, min_size=1e-10, globalize=None), f, g,
                    np.array([1.0]), 2)
-    assert steps[0].size == 1e-10 and steps[1].size == 1e-10
+    assert steps[0].size == 1e-13 and steps[1].size == 1e-10
+
+
+def test_first_step_follows_a_huge_start_gradient():
+    # ∇f = 1e40·x at x = (1, 1): the default first step moves x by a distance of 1
+    # (t = 1/‖g‖₂ ≈ 7e-41, far below min_size = 1e-10), so the globalised search starts
+    # from a finite trial and accepts it (with min_size it would start 1e30 too far).
+    f, g = bowl([1e40, 1e40])
+    x = np.array([1.0, 1.0])
+    step = BarzilaiBorwein()((f, g), x, -g(x))
+    assert step.status is Status.accepted
+    assert step.size == pytest.approx(1.0 / np.linalg.norm(g(x)), rel=1e-12)
+    assert f(step.x) < f(x)
 
 
 def test_scaled_negative_gradient_moves_x_to_the_same_point():

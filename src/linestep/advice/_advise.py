@@ -37,7 +37,9 @@ DEFAULT_BUDGET = 50_000
 # Fewest evaluations a run may get; a smaller share means the budget is too small.
 MIN_RUN_EVALUATIONS = 40
 # The first round gets this fraction of the budget; when no set-up solves from every start,
-# the rest goes to the FINALISTS most promising set-ups (no failed run, least gap left).
+# the rest goes to the FINALISTS most promising set-ups (no failed run, least gap left),
+# then by successive halving to the best of them, each round at least doubling the share
+# per run (`_next_round`).
 FIRST_ROUND_FRACTION = 0.5
 FINALISTS = 3
 # Room left in each run's share for its last iteration (checked once per iteration).
@@ -88,7 +90,7 @@ class Advice:
     standings : tuple of Standing
         Every set-up, best first by the rule (`linestep.bench._rule`).
     evaluations : int
-        Evaluations of the smoothness probe plus every run of both rounds (runs
+        Evaluations of the smoothness probe plus every run of every round (runs
         found already finished in `out` count what they spent then).
     budget : int
         The budget the study was given.
@@ -147,17 +149,23 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     then cost*: the set-up solving from the most starts, then with the fewest
     median evaluations (`linestep.bench._rule`).
 
-    The study runs in up to two rounds. The first gives every run an equal share
-    of half the budget. When no set-up solved from every start, the rest of the
-    budget goes to the three most promising set-ups (no failed run; the least
-    median fraction of the gap f − f_ref left; the best of each direction family
-    first), whose runs are repeated with the larger share and replace their
-    first-round runs.
+    The study runs in rounds. The first gives every run an equal share of half
+    the budget. When no set-up solved from every start, the rest of the budget
+    goes to the most promising set-ups by successive halving: the three most
+    promising (no failed run; the least median fraction of the gap f − f_ref
+    left; the best of each direction family first), then the better half of
+    those, and so on, each round at least doubling the share per run and
+    keeping half of what is left for the next (the last takes all of it); the
+    runs of each round replace the same set-up's earlier runs. The rounds stop
+    when a set-up solves from every start, when a set-up left behind solved
+    from more starts than any still in, or when the budget cannot double the
+    share again.
 
     Set-ups tried along the negative gradient: fixed rates 0.5/L̂, 1/L̂ and 1.8/L̂
     from `estimate_smoothness` at x0, an inverse-time schedule from 1/L̂,
     `Armijo`, `Wolfe`, `HagerZhang`, `MoreThuente`, `NonmonotoneArmijo`,
-    `BarzilaiBorwein`, `Polyak` (when `f_min` is known) and
+    `BarzilaiBorwein` (alternating, and long steps only), `Polyak` (when `f_min`
+    is known) and
     ``Fallback(Fixed(1.8/L̂), Armijo())``. With `LBFGS`: the unit step, `Armijo`,
     `Wolfe`, `MoreThuente` and `HagerZhang`.
     With `NonlinearCG`: `Wolfe`, `HagerZhang`, `MoreThuente`.
@@ -250,17 +258,22 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
         records = rounds(setups, share, report, 0, runs)
         spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
         results = Results(records)
-        finalists = _finalists(results, setups)
-        second = (available - sum(r.evaluations for r in records)) // max(
-            len(finalists) * count, 1) - ITERATION_ALLOWANCE
-        if finalists and second > share:
-            # no set-up solved from every start: the most promising ones get the rest
-            total = runs + len(finalists) * count
-            again = rounds(finalists, second, report, runs, total)
+        done, candidates = runs, _finalists(results, setups)
+        while candidates:
+            # no set-up solved from every start: the most promising get more (module notes)
+            left = budget - spent
+            candidates, larger = _next_round(candidates, left, count, share)
+            if not candidates:
+                break
+            again = rounds(candidates, larger, report, done, done + len(candidates) * count)
+            done += len(candidates) * count
             spent += sum(r.evaluations for r in again)
-            replaced = {(s.controller, s.direction) for s in finalists}
+            replaced = {(s.controller, s.direction) for s in candidates}
             records = [r for r in records if (r.controller, r.direction) not in replaced]
             records += again
+            results = Results(records, solve_rtol=results.solve_rtol)
+            share = larger
+            candidates = _finalists(results, setups, among=candidates)
     finally:
         if report is not None:
             _close(report)
@@ -291,14 +304,50 @@ def _round(problem: Any, starts: list[Any], seeds: tuple[int, ...], out: Any, wo
     return records
 
 
-def _finalists(results: Any, setups: list[_SetUp]) -> list[_SetUp]:
+def _next_round(candidates: list[_SetUp], left: int, count: int,
+                share: int) -> tuple[list[_SetUp], int]:
+    """The set-ups of the next round and their share per run, from `left` evaluations.
+
+    Successive halving: the share per run at least doubles from round to round.
+    With several candidates, the round takes half of what is left when that doubles
+    the share (the other half stays for the best of them), else all of it; when
+    even that does not double the share, only the first candidate goes on, with
+    everything left. ([], 0) when a single candidate could not double its share."""
+    while candidates:
+        runs = len(candidates) * count
+        whole = left // runs - ITERATION_ALLOWANCE
+        half = (left // 2) // runs - ITERATION_ALLOWANCE
+        if len(candidates) > 1 and half >= 2 * share:
+            return candidates, half
+        if whole >= 2 * share:
+            return candidates, whole
+        if len(candidates) == 1:
+            return [], 0
+        candidates = candidates[:1]
+    return [], 0
+
+
+def _finalists(results: Any, setups: list[_SetUp],
+               among: list[_SetUp] | None = None) -> list[_SetUp]:
     """When no set-up solved from every start: up to FINALISTS set-ups with no failed run,
     ranked by their median remaining fraction of the gap (f − f_ref)/(f₀ − f_ref); the
     best of each direction family first, then the next best, leaving out set-ups whose
-    runs ended exactly where a chosen one's did (they behave the same here)."""
+    runs ended exactly where a chosen one's did (they behave the same here).
+
+    After a later round, `among` holds that round's set-ups: only they ran with the
+    larger share, so the next round takes at most half of them (at least one)."""
     ranked = standings(results)
     if not ranked or ranked[0].solved == ranked[0].runs:
         return []
+    if among is not None:
+        keep = {(s.controller, s.direction) for s in among}
+        if max(r.fraction for r in ranked if (r.controller, r.direction) in keep) < (
+                ranked[0].fraction):
+            return []  # an earlier set-up solved from more starts than any of these
+        setups = [s for s in setups if (s.controller, s.direction) in keep]
+        limit = max(1, len(among) // 2)
+    else:
+        limit = FINALISTS
     progress: dict[tuple[str, str], list[float]] = {}
     finals: dict[tuple[str, str], list[Any]] = {}
     failed: set[tuple[str, str]] = set()
@@ -312,14 +361,15 @@ def _finalists(results: Any, setups: list[_SetUp]) -> list[_SetUp]:
         progress.setdefault(key, []).append(
             (record.value - reference) / start if start > 0 else 0.0)
         finals.setdefault(key, []).append(record.value)
+    allowed = {(s.controller, s.direction) for s in setups}
     order = [key for _, _, key in sorted(
         (float(np.median(gaps)), index, key) for index, (key, gaps)
-        in enumerate(progress.items()) if key not in failed)]
+        in enumerate(progress.items()) if key not in failed and key in allowed)]
     chosen: list[tuple[str, str]] = []
     families: set[str] = set()
     for first_pass in (True, False):
         for key in order:
-            if len(chosen) == FINALISTS:
+            if len(chosen) == limit:
                 break
             if key in chosen or (first_pass and key[1] in families):
                 continue
@@ -450,6 +500,7 @@ def _setups(loop: str, smoothness: Smoothness, problem: Any) -> list[_SetUp]:
         for code, build in _searches():
             add(code, build)
         add("BarzilaiBorwein()", BarzilaiBorwein)
+        add("BarzilaiBorwein(variant='long')", partial(BarzilaiBorwein, variant="long"))
         if problem.optimal_values:
             f_min = min(problem.optimal_values)
             add(f"Polyak(f_min={f_min!r})", partial(Polyak, f_min=f_min))

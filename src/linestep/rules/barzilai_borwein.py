@@ -49,7 +49,10 @@ class BarzilaiBorwein(StepController):
     α is clipped to [`min_size`, `max_size`]. When sᵀy ≤ 0 (no positive
     curvature along s; also s = 0 when x did not move) or the quotient is not
     finite, the previous BB trial step is reused and the message says so. The
-    very first call, with no previous point, takes its step from `first`.
+    very first call, with no previous point, takes its step from `first`, capped
+    at `max_size` but not lifted to `min_size`: the default moves x by a
+    distance of 1 whatever the size of the gradient, so a start gradient of 1e42
+    gets a first step near 1e-42.
 
     By default the BB step is the first trial of Raydan's (1997) globalisation:
     a nonmonotone backtracking search, ``NonmonotoneArmijo(reference="max",
@@ -194,8 +197,10 @@ class BarzilaiBorwein(StepController):
     def _propose(self, origin: Point, first: float) -> tuple[float, str | None]:
         """The clipped BB step for this call and a message when a fallback was used."""
         if self._x is None or _array.shape(self._x) != _array.shape(origin.x):
-            # No previous point (or one of another problem): the first-step rule.
-            return self._clip(first), None
+            # No previous point (or one of another problem): the first-step rule, capped
+            # at max_size but not lifted to min_size: it scales with the gradient (a
+            # start gradient of 1e42 needs a step near 1e-42, far below any fixed bound).
+            return min(first, self.max_size), None
         s = origin.x - self._x
         y = origin.gradient - self._gradient
         sy = _array.dot(s, y)
