@@ -147,19 +147,16 @@ class Wolfe(StepController):
         self.record_trials = bool(record_trials)
 
     def _search(self, ray: Ray, first: float) -> Outcome:
-        origin = ray.origin
+        previous = origin = ray.origin
         f0 = origin.value
         decrease = self.c1 * origin.slope  # < 0: φ(t) must lie below f0 + t·decrease
         curvature_bound = -self.c2 * origin.slope  # > 0: the bound c2·|φ'(0)| on φ'(t)
-        strong = self.strong
         max_size = self.max_size
-        evaluate, complete = ray.value, ray.value_and_slope
-        previous = origin
         size = first if first < max_size else max_size
         while True:
             # Alg. 3.5 evaluates φ first and φ' only where the decrease tests pass: a
             # rejected trial costs no gradient (the ray completes a cached point).
-            point = evaluate(size)
+            point = ray.value(size)
             value = point.value
             # Sufficient decrease in the papers' sum form. Near a minimiser c1·t·φ'(0) can
             # fall below the rounding of φ(0); the curvature test, which a point with x
@@ -169,12 +166,12 @@ class Wolfe(StepController):
                 return self._zoom(ray, previous, point)
             slope = point.slope
             if slope is None:
-                point = complete(size)
+                point = ray.complete(point)
                 slope = point.slope
                 if slope is None:  # a non-finite gradient: the trial counts as too long
                     return self._zoom(ray, previous, point)
-            if slope >= -curvature_bound and (slope <= curvature_bound or not strong):
-                return Outcome(point, Status.accepted)
+            if slope >= -curvature_bound and (slope <= curvature_bound or not self.strong):
+                return Outcome(point)
             if slope >= 0.0:
                 return self._zoom(ray, point, previous)
             if size >= max_size:
@@ -211,7 +208,7 @@ class Wolfe(StepController):
         decrease = self.c1 * origin.slope
         curvature_bound = -self.c2 * origin.slope
         strong = self.strong
-        evaluate, complete = ray.value, ray.value_and_slope
+        evaluate, complete = ray.value, ray.complete
         floor = ray.rounding_size()
         eps = ray.precision()
         tie = VALUE_TIE * eps
@@ -231,7 +228,7 @@ class Wolfe(StepController):
                         # The quadratic alone was clipped to the margin twice running:
                         # φ'(b), one gradient at the cached point, lets the cubic
                         # confirm a minimiser close to an end instead of creeping.
-                        hi = complete(b)
+                        hi = complete(hi)
                     pressed = near_end
                 if hi.value < INF:  # hi.slope is None where φ' was not needed
                     size = _zoom_trial(a, lo.value, lo.slope, b, hi.value, hi.slope)
@@ -245,13 +242,13 @@ class Wolfe(StepController):
                 continue
             slope = point.slope
             if slope is None:
-                point = complete(size)
+                point = complete(point)
                 slope = point.slope
                 if slope is None:  # a non-finite gradient: too long
                     hi = point
                     continue
             if slope >= -curvature_bound and (slope <= curvature_bound or not strong):
-                return Outcome(point, Status.accepted)
+                return Outcome(point)
             if slope * (b - a) >= 0.0:
                 hi = lo
             lo = point
