@@ -9,7 +9,8 @@ implementers:
    ``needs_gradient = False`` when the caller gave no gradient), and `first`,
    the initial trial step from the controller's ``initial`` strategy.
 2. It evaluates only through the ray (``ray.value(t)``,
-   ``ray.value_and_slope(t)``) and never counts evaluations itself.
+   ``ray.value_and_slope(t)``, ``ray.complete(point)``) and never counts
+   evaluations itself.
 3. It returns an `Outcome`: ``Outcome(point)`` when it accepts `point`, else
    ``Outcome(point, status)``, with the ray `Point` to move to (None to leave x
    unchanged) and a `Status`; ``message=`` gives a sentence replacing the
