@@ -222,7 +222,8 @@ class StepController(Rebuilds):
         return 1.0
 
     def _remember(self, ray: Ray, point: Point) -> None:
-        """Keep the accepted `point` for the initial-step strategies."""
+        """Keep the accepted `point` for the initial-step strategies (`_finish` skips
+        this for a constant first trial, which reads no memory)."""
         memory, origin = self._memory, ray.origin
         memory.size = point.size
         memory.start_value = origin.value
@@ -307,7 +308,8 @@ class StepController(Rebuilds):
         if status is not _ACCEPTED or point is None or not point.value < math.inf:
             point, status = _settle(ray, point, status)
         if status is _ACCEPTED:
-            self._remember(ray, point)
+            if self.initial.__class__ is not _CONSTANT:  # a constant reads no memory
+                self._remember(ray, point)
             if message is None:
                 message = _ACCEPTED_MESSAGE
         elif message is None:

@@ -101,14 +101,13 @@ class Ray:
             self._start, self._decrease = math.nextafter(value, -INF), 0.0
         else:
             self._start, self._decrease = value, c1 * slope
-        self.count = 0
+        self.count = self.non_finite = 0  # points evaluated; of them read as non-finite
         self.best: Point | None = None
         self._runner_up: Point | None = None
-        self.trials: list[Trial] | None = [] if record else None
-        self.non_finite = 0  # evaluated points read as non-finite
-        self._last: Point = origin
         self._rounding: float | None = None
         self._precision: float | None = None
+        self.trials: list[Trial] | None = [] if record else None
+        self._last: Point = origin
 
     # -- evaluation -------------------------------------------------------------
     def value(self, size: float) -> Point:
