@@ -13,7 +13,7 @@ invented n = 10 quadratics in the same process, timed alternately per round:
 (a) a well-scaled case where the unit step is accepted, (b) an ill-conditioned
 case (eigenvalues 1–100, steepest-descent direction) needing several trials.
 
-Run: ``python benchmarks/curvature_searches.py [--quick] [--no-timing]``
+Run: ``python benchmarks/curvature_searches.py [--quick] [--no-timing] [--per-problem]``
 """
 
 from __future__ import annotations
@@ -114,6 +114,25 @@ def evaluation_table(problems):
     return outcome
 
 
+def per_problem_table(outcome):
+    """Evaluations per problem and method ('-' where unsolved), with each search's
+    difference from the scipy driver: where the totals above come from."""
+    names = list(outcome)
+    driver = outcome["scipy line_search driver"]
+    searches = names[:3]
+    print("\n  per problem: evaluations (values + gradients); Δ = search − scipy driver")
+    labels = [n.split("(")[0] for n in searches] + ["driver", "L-BFGS-B"]
+    print(f"  {'problem':<32}" + "".join(f"{label:>13}" for label in labels)
+          + "".join(f"{'Δ ' + label:>15}" for label in labels[:3]))
+    for problem in driver:
+        cells = [f"{e.total:>13}" if ok else f"{'-':>13}"
+                 for ok, e in (outcome[n][problem] for n in names)]
+        ok_driver, e_driver = driver[problem]
+        deltas = [f"{outcome[n][problem][1].total - e_driver.total:>+15}"
+                  if ok_driver and outcome[n][problem][0] else f"{'':>15}" for n in searches]
+        print(f"  {problem:<32}" + "".join(cells) + "".join(deltas))
+
+
 def quadratic(eigenvalues, seed):
     rng = np.random.default_rng(seed)
     n = len(eigenvalues)
@@ -186,8 +205,13 @@ def main():
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="fewer timing rounds")
     parser.add_argument("--no-timing", action="store_true", help="part 1 only")
+    parser.add_argument("--per-problem", action="store_true",
+                        help="part 1 also per problem, with each search's difference from "
+                             "the scipy driver")
     args = parser.parse_args()
-    evaluation_table(mgh_problems())
+    outcome = evaluation_table(mgh_problems())
+    if args.per_problem:
+        per_problem_table(outcome)
     if not args.no_timing:
         timing_table(rounds=5 if args.quick else 20, repeat=300 if args.quick else 1000)
 

@@ -9,10 +9,11 @@ implementers:
    ``needs_gradient = False`` when the caller gave no gradient), and `first`,
    the initial trial step from the controller's ``initial`` strategy.
 2. It evaluates only through the ray (``ray.value(t)``,
-   ``ray.value_and_slope(t)``) and never counts evaluations itself.
-3. It returns an `Outcome`: ``Outcome(point, status)`` or
-   ``Outcome(point, status, message)`` with the ray `Point` to move to (None to
-   leave x unchanged), a `Status`, and an optional sentence replacing the
+   ``ray.value_and_slope(t)``, ``ray.complete(point)``) and never counts
+   evaluations itself.
+3. It returns an `Outcome`: ``Outcome(point)`` when it accepts `point`, else
+   ``Outcome(point, status)``, with the ray `Point` to move to (None to leave x
+   unchanged) and a `Status`; ``message=`` gives a sentence replacing the
    status's default message.
 4. It never builds a `Step` and never raises for numeric trouble; the ray
    raises `BudgetSpent` when the budget is gone and the base returns the best
@@ -54,6 +55,15 @@ from linestep._step import MESSAGES, Status, Step, step_from
 __all__ = ["Outcome", "StepController"]
 
 
+# Measured, not nanoseconds: on Python 3.11 reading an enum member from its class
+# (`Status.accepted`) goes through EnumType's __getattr__ hook, and an enum's __hash__
+# (a `MESSAGES[...]` lookup) is Python code; together they cost ~2,000 instructions per
+# call on the accepted path (benchmarks/call_instructions.py). The hot path reads these,
+# and `Outcome`'s default status is the first (a search's accept reads no enum).
+_ACCEPTED = Status.accepted
+_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
+
+
 class Outcome:
     """What a controller's `_search` hook returns: where to move, why, and in what words.
 
@@ -62,14 +72,15 @@ class Outcome:
     point : Point or None
         The ray point to move to; None leaves x unchanged.
     status : Status
-        Why the search stopped.
+        Why the search stopped; ``Outcome(point)`` accepts `point`.
     message : str or None
         A sentence replacing the status's default message, or None for the default.
     """
 
     __slots__ = ("point", "status", "message")
 
-    def __init__(self, point: Point | None, status: Status, message: str | None = None):
+    def __init__(self, point: Point | None, status: Status = _ACCEPTED,
+                 message: str | None = None):
         self.point = point
         self.status = status
         self.message = message
@@ -78,12 +89,6 @@ class Outcome:
         return f"Outcome({self.point!r}, {self.status!r}, {self.message!r})"
 
 
-# Measured, not nanoseconds: on Python 3.11 reading an enum member from its class
-# (`Status.accepted`) goes through EnumType's __getattr__ hook, and an enum's __hash__
-# (a `MESSAGES[...]` lookup) is Python code; together they cost ~2,000 instructions per
-# call on the accepted path (benchmarks/call_instructions.py). The hot path reads these.
-_ACCEPTED = Status.accepted
-_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
 # Likewise measured: reading `np.ndarray` and `_initial.ConstantTrial` at each call costs
 # ~670 instructions per call more than these module globals (numpy's module __getattr__).
 _NDARRAY = np.ndarray
@@ -138,28 +143,28 @@ class StepController(Rebuilds):
         if objective is not self._objective:
             self._adopt(objective, x)
         start_values, start_gradients = objective.values, objective.gradients
+        origin = None
         if (value is not None
                 and x.__class__ is direction.__class__ is gradient.__class__ is _NDARRAY
                 and x.ndim == direction.ndim == gradient.ndim == 1
                 and x.dtype is direction.dtype is gradient.dtype and x.dtype.kind == "f"
                 and len(x) == len(direction) == len(gradient)):
-            # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given.
-            # A finite x·x, g·d and f prove x, g, d and f finite (`_array.all_finite`'s
-            # test, inlined; `_check_slope`). (len, unlike shape, builds no tuple.)
+            # Fast path for the common call from a loop: 1-D float arrays, f and ∇f given,
+            # a descent direction. A finite x·x, g·d and f prove x, g, d and f finite
+            # (`_array.all_finite`'s test, inlined; `_check_slope`). (len, unlike shape,
+            # builds no tuple.) Anything else takes the checked path below.
             slope = float(gradient.dot(direction))
             if value.__class__ is not float:  # never float(): it would parse "5.0"
                 value = _validate.finite_scalar("value", value)
-            if isfinite(slope) and isfinite(value) and isfinite(x.dot(x)):
+            if -math.inf < slope < 0.0 and isfinite(value) and isfinite(x.dot(x)):
                 origin = Point(0.0, x, value, gradient, slope)
-            else:
-                origin = self._origin(objective, *_check_point_and_direction(x, direction),
-                                      value, gradient)
-        else:
+        if origin is None:
             x, direction = _check_point_and_direction(x, direction)
             origin = self._origin(objective, x, direction, value, gradient)
-        slope = origin.slope
-        if slope is not None and not -math.inf < slope < 0.0:
-            return self._no_search(objective, origin, start_values, start_gradients, direction)
+            slope = origin.slope
+            if slope is not None and not -math.inf < slope < 0.0:
+                return self._no_search(objective, origin, start_values, start_gradients,
+                                       direction)
         ray = Ray(objective, origin, direction, self.max_evaluations, self.c1,
                   self.record_trials)
         try:
@@ -216,13 +221,13 @@ class StepController(Rebuilds):
             return guess
         return 1.0
 
-    def _remember(self, ray: Ray, point: Point | None, status: Status) -> None:
-        """Keep an accepted step for the initial-step strategies."""
-        if point is not None and status is _ACCEPTED:
-            memory, origin = self._memory, ray.origin
-            memory.size = point.size
-            memory.start_value = origin.value
-            memory.slope = origin.slope
+    def _remember(self, ray: Ray, point: Point) -> None:
+        """Keep the accepted `point` for the initial-step strategies (`_finish` skips
+        this for a constant first trial, which reads no memory)."""
+        memory, origin = self._memory, ray.origin
+        memory.size = point.size
+        memory.start_value = origin.value
+        memory.slope = origin.slope
 
     # -- composites ------------------------------------------------------------------
     def _delegate(self, member: StepController, ray: Ray, *, first: float | None = None,
@@ -240,7 +245,8 @@ class StepController(Rebuilds):
         if at_most is not None and 0.0 < at_most < first:
             first = at_most
         outcome = member._search(ray, first)
-        member._remember(ray, outcome.point, outcome.status)
+        if outcome.status is _ACCEPTED and outcome.point is not None:
+            member._remember(ray, outcome.point)
         return outcome
 
     # -- bookkeeping ---------------------------------------------------------------
@@ -302,7 +308,8 @@ class StepController(Rebuilds):
         if status is not _ACCEPTED or point is None or not point.value < math.inf:
             point, status = _settle(ray, point, status)
         if status is _ACCEPTED:
-            self._remember(ray, point, status)
+            if self.initial.__class__ is not _CONSTANT:  # a constant reads no memory
+                self._remember(ray, point)
             if message is None:
                 message = _ACCEPTED_MESSAGE
         elif message is None:

@@ -3,7 +3,8 @@
 Searches never call the user's functions: they ask the `Ray` for points. The ray
 
 * evaluates through the counting `Objective` (algorithms never count);
-* caches the last point, so asking for φ'(t) after φ(t) costs one gradient;
+* caches the last point, so asking for φ'(t) after φ(t) costs one gradient
+  (`complete`);
 * reads a non-finite value or gradient as φ(t) = +inf, so every search
   shrinks the step the same way and never returns a non-finite point;
 * keeps the best point that satisfies sufficient decrease, for the budget and
@@ -100,14 +101,13 @@ class Ray:
             self._start, self._decrease = math.nextafter(value, -INF), 0.0
         else:
             self._start, self._decrease = value, c1 * slope
-        self.count = 0
+        self.count = self.non_finite = 0  # points evaluated; of them read as non-finite
         self.best: Point | None = None
         self._runner_up: Point | None = None
-        self.trials: list[Trial] | None = [] if record else None
-        self.non_finite = 0  # evaluated points read as non-finite
-        self._last: Point = origin
         self._rounding: float | None = None
         self._precision: float | None = None
+        self.trials: list[Trial] | None = [] if record else None
+        self._last: Point = origin
 
     # -- evaluation -------------------------------------------------------------
     def value(self, size: float) -> Point:
@@ -134,9 +134,7 @@ class Ray:
         if last.size == size:
             if last.slope is not None or last.value == INF:
                 return last
-            # The value is cached: one gradient evaluation completes the point.
-            gradient = objective.gradient(last.x)
-            return self._complete(last, gradient)
+            return self.complete(last)  # the value is cached
         x_new = self._take(size)
         value, gradient = objective.value_and_gradient(x_new)
         if isfinite(value) and (size <= 1.0 or _array.all_finite(x_new)):
@@ -146,19 +144,21 @@ class Ray:
         self.non_finite += 1
         return self._store(Point(size, x_new, INF, gradient, None))
 
-    def _complete(self, point: Point, gradient: Any) -> Point:
-        """Add the gradient and slope to a point whose value is cached."""
-        gradient, slope = self._slope(gradient, point.size)
+    def complete(self, point: Point) -> Point:
+        """Add ∇f and φ' to `point`, the last point evaluated, which has a finite value
+        and no gradient yet: one gradient evaluation (a search that asks for φ' only
+        after φ passed its tests)."""
+        gradient, slope = self._slope(self.objective.gradient(point.x), point.size)
         point.gradient = gradient
         if isfinite(slope):
             point.slope = slope
         else:
             self.non_finite += 1  # the cached value was finite; the point no longer is
             point.value = INF
+            if self.best is point:
+                self.best = self._runner_up
         if self.trials is not None and self.trials:
             self.trials[-1] = Trial(size=point.size, value=point.value, slope=point.slope)
-        if point.value == INF and self.best is point:
-            self.best = self._runner_up
         return point
 
     def check_origin_value(self) -> None:

@@ -214,19 +214,28 @@ def test_unbounded_below_stops_at_max_size(strong):
     assert step.evaluations.values <= 40
 
 
-def test_concave_stretch_extrapolates_to_the_upper_bound():
+def test_concave_stretch_extrapolates_to_the_reach():
     # Issue 14, §3 (invented ray): φ(t) = −t² − 0.01·t. The cubic through two trials
-    # of a concave quadratic degenerates at rounding level; a model step that does not
-    # lie beyond t takes the upper bound t + 4·(t − t_prev) (Moré & Thuente 1994,
-    # case 3), so the trials grow by the same factor as Moré–Thuente's.
+    # of a concave quadratic degenerates at rounding level, with a "minimiser" far
+    # ahead; the trial goes to the reach t + 4·expand·(t − t_prev) = t + 16·(t − t_prev),
+    # never crawls, and needs no more trials than Moré–Thuente's (whose bound is 4).
     objective = (lambda x: float(-x[0] ** 2 - 0.01 * x[0]),
                  lambda x: np.array([-2.0 * x[0] - 0.01]))
     wolfe = Wolfe(max_size=1e6, record_trials=True)(objective, np.zeros(1), np.ones(1))
     more_thuente = MoreThuente(max_size=1e6, record_trials=True)(objective, np.zeros(1),
                                                                  np.ones(1))
     assert wolfe.status is more_thuente.status is Status.step_too_large
-    assert trial_sizes(wolfe)[:4] == [1.0, 5.0, 21.0, 85.0]
-    assert len(wolfe.trials) <= len(more_thuente.trials) + 1
+    assert trial_sizes(wolfe)[:3] == [1.0, 17.0, 273.0]
+    assert len(wolfe.trials) <= len(more_thuente.trials)
+
+
+def test_no_minimiser_ahead_takes_the_blind_step():
+    # φ(t) = −t: the cubic has no minimiser, so each trial is t + expand·(t − t_prev)
+    # (Moré & Thuente 1994, case 3's bound), up to max_size.
+    objective = (lambda x: float(-x[0]), lambda x: np.array([-1.0]))
+    step = Wolfe(max_size=1e3, record_trials=True)(objective, np.zeros(1), np.ones(1))
+    assert trial_sizes(step) == [1.0, 5.0, 21.0, 85.0, 341.0, 1000.0]
+    assert step.status is Status.step_too_large
 
 
 @pytest.mark.parametrize("strong", [True, False], ids=["strong", "weak"])
@@ -275,12 +284,15 @@ def test_budget_returns_best_sufficient_decrease_point():
 
 
 def test_expand_limits_the_bracketing_growth():
-    # φ(t) = (t − 100)²: from t = 1, trials grow as t + expand·(t − t_prev).
+    # φ(t) = (t − 100)²: the cubic's minimiser is 100 exactly, taken up to the reach
+    # t + 4·expand·(t − t_prev): with expand = 2, 1 + 8·1 = 9, then 9 + 8·8 = 73, where
+    # |φ'| = 54 ≤ 0.9·200 accepts. With the default expand = 4, 1 + 16 = 17 accepts.
     step = Wolfe(expand=2.0, record_trials=True)(quadratic_1d(100.0), np.array([0.0]),
                                                  np.array([1.0]))
-    sizes = trial_sizes(step)
-    assert sizes[:4] == [1.0, 3.0, 7.0, 15.0]
+    assert trial_sizes(step) == [1.0, 9.0, 73.0]
     assert step.status is Status.accepted
+    step = Wolfe(record_trials=True)(quadratic_1d(100.0), np.array([0.0]), np.array([1.0]))
+    assert trial_sizes(step) == [1.0, 17.0]
 
 
 def test_c1_equal_c2_is_legal():

@@ -187,7 +187,7 @@ class BarzilaiBorwein(StepController):
                     f"f is not finite at the BB step {size:.3g}; x is unchanged. Lower "
                     "`max_size` or use the default nonmonotone globalisation."
                 ))
-            return Outcome(point, Status.accepted, note)
+            return Outcome(point, message=note)
         outcome = self._delegate(self.globalize, ray, first=size)
         if note is not None and outcome.status is Status.accepted and outcome.message is None:
             return Outcome(outcome.point, outcome.status, note)

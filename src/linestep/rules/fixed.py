@@ -55,4 +55,4 @@ class Fixed(StepController):
         point = ray.value(self.size)
         if not point.finite:
             return Outcome(None, Status.non_finite)
-        return Outcome(point, Status.accepted)
+        return Outcome(point)

@@ -153,7 +153,7 @@ class Polyak(StepController):
             return Outcome(None, Status.non_finite)
         if self.f_min is None:
             self._path += point.size * length  # the path actually travelled
-        return Outcome(point, Status.accepted)
+        return Outcome(point)
 
     def _level(self, value: float) -> float:
         """Goffin–Kiwiel target for a call starting at f_k = `value`."""

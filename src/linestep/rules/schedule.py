@@ -348,7 +348,7 @@ class Schedule(StepController):
                 f"The scheduled step of size {size:.3g} (k={k}) gave a non-finite value; x "
                 "is unchanged. Lower the schedule or wrap it in Fallback(schedule, Armijo())."
             ))
-        return Outcome(point, Status.accepted)
+        return Outcome(point)
 
     def _reset_state(self) -> None:
         self._k = 0

@@ -17,7 +17,7 @@ def backtrack(ray: Ray, first: float, reference: float, c1: float, shrink: float
     (φ(0), φ'(0) and the failed trials), whatever the reference. With
     ``reference = φ(0)`` it is `Armijo`'s search; `NonmonotoneArmijo` passes its
     nonmonotone reference value.
-    Returns ``Outcome(point, Status.accepted)`` or ``Outcome(None, Status.step_too_small)``;
+    Returns ``Outcome(point)`` or ``Outcome(None, Status.step_too_small)``;
     the ray raises `BudgetSpent` when the budget runs out.
     """
     origin = ray.origin
@@ -29,7 +29,7 @@ def backtrack(ray: Ray, first: float, reference: float, c1: float, shrink: float
         point: Point = ray.value(size)
         value = point.value
         if value - reference <= c1 * size * d0:  # as a difference, like Armijo's test
-            return Outcome(point, Status.accepted)
+            return Outcome(point)
         if size <= ray.rounding_size():
             return Outcome(None, Status.step_too_small)
         if not point.finite:

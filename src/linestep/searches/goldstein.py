@@ -105,7 +105,7 @@ class Goldstein(StepController):
                     checked = True
                 short = size
             else:
-                return Outcome(point, Status.accepted)
+                return Outcome(point)
             lowest = min(lowest, value)
             if long == math.inf:
                 if size >= self.max_size:

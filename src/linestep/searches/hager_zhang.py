@@ -24,6 +24,11 @@ VALUES_INFORM = 10.0
 # point left to try (the midpoint rounds to an end), whatever the rounding level in x.
 SIZE_SPACINGS = 4.0
 
+# Read once, measured (benchmarks/call_instructions.py): the accepted outcome is built on
+# every call, and on Python 3.11 `Outcome(point, Status.accepted, _WOLFE)` costs ~900
+# instructions more per call (EnumType's __getattr__ hook), `Outcome(point,
+# message=_WOLFE)` ~1,000 more (a keyword to a class call builds a dict).
+_ACCEPTED = Status.accepted
 _WOLFE = (
     "The step satisfies the Wolfe conditions: sufficient decrease with `c1` and "
     "curvature with `c2`."
@@ -221,10 +226,10 @@ class HagerZhang(StepController):
         slope = point.slope
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
-                return Outcome(point, Status.accepted, _WOLFE)
+                return Outcome(point, _ACCEPTED, _WOLFE)
             if (approximate and slope <= (2.0 * c1 - 1.0) * d0
                     and point.value <= f0 + epsilon_k):
-                return Outcome(point, Status.accepted, _APPROXIMATE)
+                return Outcome(point, _ACCEPTED, _APPROXIMATE)
         bracketing = _BracketSearch(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
@@ -276,9 +281,9 @@ class _BracketSearch:
         if slope is not None and slope >= self.curvature:
             # (T1) written as in the paper: φ(t) − φ(0) ≤ δ·t·φ'(0).
             if point.value - self.f0 <= self.c1 * size * self.d0:
-                raise _Stop(Outcome(point, Status.accepted, _WOLFE))
+                raise _Stop(Outcome(point, _ACCEPTED, _WOLFE))
             if slope <= self.approximate and point.value <= self.limit:
-                raise _Stop(Outcome(point, Status.accepted, _APPROXIMATE))
+                raise _Stop(Outcome(point, _ACCEPTED, _APPROXIMATE))
         return point
 
     def check_width(self, low: Point, high: Point) -> float:

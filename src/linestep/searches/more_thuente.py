@@ -179,7 +179,7 @@ class MoreThuente(StepController):
         point = evaluate(size)
         if (point.value <= f0 + size * decrease
                 and -curvature_bound <= point.slope <= curvature_bound):
-            return Outcome(point, Status.accepted)
+            return Outcome(point)
         # The interval ends in φ terms: t_l (least working value) and t_u.
         lt, lf, lg = 0.0, f0, g0
         ut, uf, ug = 0.0, f0, g0
@@ -198,7 +198,7 @@ class MoreThuente(StepController):
                 g = point.slope
                 if f <= sufficient:
                     if -curvature_bound <= g <= curvature_bound:
-                        return Outcome(point, Status.accepted)
+                        return Outcome(point)
                     if g >= 0.0:
                         auxiliary = False
                     elif size >= max_size and g <= decrease:
