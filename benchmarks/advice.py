@@ -4,9 +4,11 @@ does its cost compare with the best steepest-descent controller of an exhaustive
 Problem set: the 35 Moré–Garbow–Hillstrom (1981) problems at their standard sizes;
 the MGH problems whose size may vary, at n = 100 where a published optimal value
 applies at that size (the others have no reference to judge a run by); the
-invented ill-conditioned quadratics of the bench suite at n = 100 (κ = 10..10⁶);
-and the three logistic-regression problems of the bench suite (n = 30, the data's
-size; they need scikit-learn, which ships the data).
+scalable functions of the ``large`` bench suite at n = 100 that are not already in
+the set at that size under their MGH name (the extended forms of Andrei 2008, and
+Penalty I with its derived optimum); the invented ill-conditioned quadratics of the bench suite at
+n = 100 (κ = 10..10⁶); and the three logistic-regression problems of the bench
+suite (n = 30, the data's size; they need scikit-learn, which ships the data).
 
 For each problem and each `loop`, `advise` runs with its defaults (5 starts: the
 standard start and 4 perturbed ones with seeds 0..3, the default budget) and the
@@ -56,7 +58,12 @@ from linestep import (
     stopping,
 )
 from linestep.bench import Start, get_problem, mgh_problems, problem_names
-from linestep.bench.suites import has_logistic_data, logistic_problems, quadratic_problems
+from linestep.bench.suites import (
+    has_logistic_data,
+    large_problems,
+    logistic_problems,
+    quadratic_problems,
+)
 
 FRESH_SEED = 1000
 SCALABLE_DIMENSION = 100
@@ -70,6 +77,11 @@ def problem_set(quick: bool) -> list:
         except ValueError:
             continue
         if problem.optimal_values:
+            problems.append(problem)
+    present = {(problem.name, problem.dimension) for problem in problems}
+    for problem in large_problems(dimension=SCALABLE_DIMENSION):
+        # the large suite names its problems "<name>_n<dimension>"
+        if (problem.name.rsplit("_n", 1)[0], problem.dimension) not in present:
             problems.append(problem)
     problems += quadratic_problems(dimension=SCALABLE_DIMENSION)
     if has_logistic_data():
