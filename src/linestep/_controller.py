@@ -50,18 +50,11 @@ from linestep import _array, _initial, _validate
 from linestep._objective import Objective, as_objective
 from linestep._ray import BudgetSpent, Point, Ray
 from linestep._rebuild import Rebuilds
-from linestep._step import MESSAGES, Status, Step, step_from
+from linestep._step import ACCEPTED, ACCEPTED_MESSAGE, MESSAGES, Status, Step, step_from
 
 __all__ = ["Outcome", "StepController"]
 
 
-# Measured, not nanoseconds: on Python 3.11 reading an enum member from its class
-# (`Status.accepted`) goes through EnumType's __getattr__ hook, and an enum's __hash__
-# (a `MESSAGES[...]` lookup) is Python code; together they cost ~2,000 instructions per
-# call on the accepted path (benchmarks/call_instructions.py). The hot path reads these,
-# and `Outcome`'s default status is the first (a search's accept reads no enum).
-_ACCEPTED = Status.accepted
-_ACCEPTED_MESSAGE = MESSAGES[Status.accepted]
 
 
 class Outcome:
@@ -79,7 +72,7 @@ class Outcome:
 
     __slots__ = ("point", "status", "message")
 
-    def __init__(self, point: Point | None, status: Status = _ACCEPTED,
+    def __init__(self, point: Point | None, status: Status = ACCEPTED,
                  message: str | None = None):
         self.point = point
         self.status = status
@@ -245,7 +238,7 @@ class StepController(Rebuilds):
         if at_most is not None and 0.0 < at_most < first:
             first = at_most
         outcome = member._search(ray, first)
-        if outcome.status is _ACCEPTED and outcome.point is not None:
+        if outcome.status is ACCEPTED and outcome.point is not None:
             member._remember(ray, outcome.point)
         return outcome
 
@@ -305,13 +298,13 @@ class StepController(Rebuilds):
     def _finish(self, ray: Ray, outcome: Outcome, start_values: int,
                 start_gradients: int) -> Step:
         point, status, message = outcome.point, outcome.status, outcome.message
-        if status is not _ACCEPTED or point is None or not point.value < math.inf:
+        if status is not ACCEPTED or point is None or not point.value < math.inf:
             point, status = _settle(ray, point, status)
-        if status is _ACCEPTED:
+        if status is ACCEPTED:
             if self.initial.__class__ is not _CONSTANT:  # a constant reads no memory
                 self._remember(ray, point)
             if message is None:
-                message = _ACCEPTED_MESSAGE
+                message = ACCEPTED_MESSAGE
         elif message is None:
             message = MESSAGES[status]
         objective, trials = ray.objective, ray.trials

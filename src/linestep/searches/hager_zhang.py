@@ -11,7 +11,7 @@ from linestep._controller import Outcome, StepController
 from linestep._interpolate import cubic_from_slopes, quadratic_from_slopes
 from linestep._ray import EPS, Point, Ray
 from linestep._rebuild import Rebuilds
-from linestep._step import Status
+from linestep._step import ACCEPTED, Status
 
 __all__ = ["HagerZhang", "HagerZhangStart"]
 
@@ -24,11 +24,8 @@ VALUES_INFORM = 10.0
 # point left to try (the midpoint rounds to an end), whatever the rounding level in x.
 SIZE_SPACINGS = 4.0
 
-# Read once, measured (benchmarks/call_instructions.py): the accepted outcome is built on
-# every call, and on Python 3.11 `Outcome(point, Status.accepted, _WOLFE)` costs ~900
-# instructions more per call (EnumType's __getattr__ hook), `Outcome(point,
-# message=_WOLFE)` ~1,000 more (a keyword to a class call builds a dict).
-_ACCEPTED = Status.accepted
+# `Outcome(point, ACCEPTED, message)`, positional: a keyword to a class call builds a
+# dict (~1,000 instructions per call, benchmarks/call_instructions.py).
 _WOLFE = (
     "The step satisfies the Wolfe conditions: sufficient decrease with `c1` and "
     "curvature with `c2`."
@@ -187,7 +184,7 @@ class HagerZhang(StepController):
         self.bisect_threshold = _validate.open_unit("bisect_threshold", bisect_threshold)
         self.expand = _validate.within("expand", expand, 1.0, math.inf)  # > 1: trials grow
         self.memory_weight = _validate.within("memory_weight", memory_weight, 0.0, 1.0,
-                                               include_low=True, include_high=True)
+                                              include_low=True, include_high=True)
         self.approximate_switch = _validate.within(  # ω; inf: from the first call
             "approximate_switch", approximate_switch, 0.0, INF, include_low=True,
             include_high=True)
@@ -226,10 +223,10 @@ class HagerZhang(StepController):
         slope = point.slope
         if slope is not None and slope >= self.c2 * d0:
             if point.value - f0 <= c1 * size * d0:
-                return Outcome(point, _ACCEPTED, _WOLFE)
+                return Outcome(point, ACCEPTED, _WOLFE)
             if (approximate and slope <= (2.0 * c1 - 1.0) * d0
                     and point.value <= f0 + epsilon_k):
-                return Outcome(point, _ACCEPTED, _APPROXIMATE)
+                return Outcome(point, ACCEPTED, _APPROXIMATE)
         bracketing = _BracketSearch(self, ray, epsilon_k, approximate)
         try:
             # The ray returns the cached first trial: nothing is evaluated twice.
@@ -281,9 +278,9 @@ class _BracketSearch:
         if slope is not None and slope >= self.curvature:
             # (T1) written as in the paper: φ(t) − φ(0) ≤ δ·t·φ'(0).
             if point.value - self.f0 <= self.c1 * size * self.d0:
-                raise _Stop(Outcome(point, _ACCEPTED, _WOLFE))
+                raise _Stop(Outcome(point, ACCEPTED, _WOLFE))
             if slope <= self.approximate and point.value <= self.limit:
-                raise _Stop(Outcome(point, _ACCEPTED, _APPROXIMATE))
+                raise _Stop(Outcome(point, ACCEPTED, _APPROXIMATE))
         return point
 
     def check_width(self, low: Point, high: Point) -> float:
