@@ -243,3 +243,18 @@ def test_fixed_never_returns_an_overflowed_point():
         step = Fixed(1e300)((fun, grad), x, -grad(x) * 1e10)
     assert step.status is Status.non_finite
     assert step.x is x
+
+
+def test_complete_adds_one_gradient_to_the_last_point_and_refuses_any_other():
+    ray = make_ray(record=True)
+    first = ray.value(0.25)
+    second = ray.value(0.5)
+    with pytest.raises(RuntimeError, match="last point evaluated"):
+        ray.complete(first)  # not the last: it would overwrite the wrong trial record
+    point = ray.complete(second)
+    assert point is second and point.slope == pytest.approx(float(2.0 * point.x @ D))
+    assert ray.objective.evaluations == Evaluations(values=2, gradients=1)
+    assert ray.trials[-1] == Trial(size=0.5, value=point.value, slope=point.slope)
+    with pytest.raises(RuntimeError, match="last point evaluated"):
+        ray.complete(second)  # it has its gradient: a second call would count it twice
+    assert ray.objective.evaluations == Evaluations(values=2, gradients=1)

@@ -147,7 +147,12 @@ class Ray:
     def complete(self, point: Point) -> Point:
         """Add ∇f and φ' to `point`, the last point evaluated, which has a finite value
         and no gradient yet: one gradient evaluation (a search that asks for φ' only
-        after φ passed its tests)."""
+        after φ passed its tests). Any other point is an implementer's error: it
+        would be evaluated twice or recorded as the wrong trial."""
+        if point is not self._last or point.slope is not None or point.value == INF:
+            raise RuntimeError("Ray.complete takes the last point evaluated, with a finite "
+                               "value and no gradient yet; use value_and_slope(size) for "
+                               "any other point.")
         gradient, slope = self._slope(self.objective.gradient(point.x), point.size)
         point.gradient = gradient
         if isfinite(slope):
