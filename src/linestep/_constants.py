@@ -19,3 +19,9 @@ BISECT_UNLESS_SHRUNK = 0.66
 # Largest ‖d − c·(−g)‖ / ‖d‖ still read as d = c·(−g), for the rules defined only along
 # the negative gradient (Barzilai–Borwein, Polyak): rounding of a negation or scaling.
 DIRECTION_RTOL = 1e-6
+
+# When sᵀy ≤ 0 with s ≠ 0 (f not convex along the last step) Barzilai–Borwein has no
+# quotient; the previous trial times this factor is tried (the globalising search cuts it
+# back when it is too long). Reusing it unchanged kept a fixed step for thousands of
+# iterations near saddle points (Wood's function). Our safeguard, not from the papers.
+NEGATIVE_CURVATURE_GROWTH = 2.0

@@ -232,6 +232,35 @@ def test_non_finite_values_shrink_the_step_as_on_the_host(name):
     lockstep(host, search, boxed, x, steps=4, fused=fused)
 
 
+def ridge(x):
+    """Σ cos xᵢ + 0.05‖x‖² (invented): concave near 0, so BB pairs there have sᵀy < 0."""
+    return jnp.sum(jnp.cos(x)) + 0.05 * jnp.sum(x * x)
+
+
+@pytest.mark.parametrize("name", [n for n in PAIR_NAMES if n.startswith("barzilai")])
+def test_negative_curvature_grows_the_trial_as_on_the_host(name):
+    host, search, fused = _pairs()[name]
+    x = jnp.array([0.3, -0.2, 0.1])
+    lockstep(host, search, ridge, x, steps=8, fused=fused)
+    host.reset()
+    lockstep(host, search, ridge, x, steps=3, fused=fused)
+    # the case reaches the branch: the messages say the trial was doubled
+    assert any("doubled" in step.message for step in _host_steps(host, ridge, x, 3)
+               if step.message)
+
+
+def _host_steps(host, fun, x, steps: int) -> list:
+    """`steps` steps of the host's pure-BB copy (its messages are not replaced by a
+    globalising search's) from x."""
+    host = BarzilaiBorwein(variant=host.variant, first=host.first, globalize=None)
+    objective, out = lj.objective(fun), []
+    for _ in range(steps):
+        value, gradient = jax.value_and_grad(fun)(x)
+        out.append(host(objective, x, -gradient, value=float(value), gradient=gradient))
+        x = out[-1].x
+    return out
+
+
 # ------------------------------------------------------------ whole runs
 
 

@@ -25,7 +25,7 @@ import jax
 import jax.numpy as jnp
 
 from linestep import _validate
-from linestep._constants import DIRECTION_RTOL
+from linestep._constants import DIRECTION_RTOL, NEGATIVE_CURVATURE_GROWTH
 from linestep.jax import _tree
 from linestep.jax._armijo import Backtracking, NonmonotoneSearch, nonmonotone_armijo
 from linestep.jax._line import Line
@@ -95,8 +95,12 @@ class BarzilaiBorweinSearch(CompiledSearch):
         long = calls % 2 == 1 if self.variant == "alternate" else self.variant == "long"
         bb = jnp.where(long, _tree.vdot(s, s) / sy, sy / _tree.vdot(y, y))
         good = (sy > 0) & jnp.isfinite(bb) & (bb > 0)
-        step = jnp.where(good, self._clip(bb), self._clip(pair.trial))
-        return jnp.where(calls > 0, step, self._clip(first)).astype(line.dtype)
+        # sᵀy ≤ 0 with s ≠ 0: not convex along s, the previous trial grows (as the host)
+        grow = (sy <= 0) & (_tree.vdot(s, s) > 0)
+        held = jnp.where(grow, pair.trial * NEGATIVE_CURVATURE_GROWTH, pair.trial)
+        step = jnp.where(good, self._clip(bb), self._clip(held))
+        # the first step is capped but not lifted to min_size (as the host)
+        return jnp.where(calls > 0, step, jnp.minimum(first, self.max_size)).astype(line.dtype)
 
     def _search(self, line: Line, first: Any, active: Any, state: Any) -> tuple:
         pair = state.method
@@ -122,8 +126,9 @@ def barzilai_borwein(*, variant: str = "alternate", first: Any = None,
     with s = x_k − x_{k−1}, y = ∇f_k − ∇f_{k−1} from the previous call (kept in
     the state), α = sᵀs/sᵀy (``"long"``), sᵀy/yᵀy (``"short"``) or the two in
     turn (``"alternate"``), clipped to [`min_size`, `max_size`]; when sᵀy ≤ 0
-    or α is not finite the previous α is reused. The first call takes its
-    step from `first`. The step α is the first trial of the globalising search.
+    with s ≠ 0 the previous α is doubled, when s = 0 or α is not finite it is
+    reused. The first call takes its step from `first`, capped at `max_size`.
+    The step α is the first trial of the globalising search.
 
     Parameters
     ----------

@@ -8,7 +8,7 @@ from typing import Any
 import numpy as np
 
 from linestep import _array, _initial, _validate
-from linestep._constants import DIRECTION_RTOL
+from linestep._constants import DIRECTION_RTOL, NEGATIVE_CURVATURE_GROWTH
 from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
 from linestep._rebuild import call
@@ -46,9 +46,10 @@ class BarzilaiBorwein(StepController):
     * ``"alternate"``: BB1 on the 1st, 3rd, 5th, ... BB step and BB2 on the 2nd,
       4th, ... (the alternating rule studied by Dai and Fletcher 2005).
 
-    α is clipped to [`min_size`, `max_size`]. When sᵀy ≤ 0 (no positive
-    curvature along s; also s = 0 when x did not move) or the quotient is not
-    finite, the previous BB trial step is reused and the message says so. The
+    α is clipped to [`min_size`, `max_size`]. When sᵀy ≤ 0 with s ≠ 0 (f is
+    not convex along s) the previous BB trial step is doubled (the globalising
+    search cuts it back if that is too far); when s = 0 (x did not move) or the
+    quotient is not finite it is reused. The message says which. The
     very first call, with no previous point, takes its step from `first`, capped
     at `max_size` but not lifted to `min_size`: the default moves x by a
     distance of 1 whatever the size of the gradient, so a start gradient of 1e42
@@ -210,10 +211,16 @@ class BarzilaiBorwein(StepController):
             size = _array.dot(s, s) / sy if long else sy / _array.dot(y, y)
             if math.isfinite(size) and size > 0.0:
                 return self._clip(size), None
+        if sy <= 0.0 and _array.dot(s, s) > 0.0:
+            # f is not convex along s: a longer step gains more than the linear model says
+            size = self._clip(self._trial * NEGATIVE_CURVATURE_GROWTH)
+            return size, (f"sᵀy = {sy:.3g} ≤ 0 gives no BB step (f is not convex along the "
+                          f"last step), so the previous BB trial step was doubled to "
+                          f"{size:.3g}.")
         size = self._clip(self._trial)
-        return size, (f"sᵀy = {sy:.3g} gives no usable BB step (it needs positive curvature "
-                      f"along the last step), so the previous BB trial step {size:.3g} was "
-                      "reused.")
+        return size, (f"sᵀy = {sy:.3g} gives no usable BB step (x did not move, or the "
+                      f"quotient is not finite), so the previous BB trial step {size:.3g} "
+                      "was reused.")
 
     def _clip(self, size: float) -> float:
         return min(max(size, self.min_size), self.max_size)
