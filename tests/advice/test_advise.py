@@ -93,6 +93,32 @@ def test_objective_that_always_raises_says_no_setup_works():
     assert str(advice).startswith("No set-up solved")
 
 
+def test_budget_too_small_to_solve_names_the_closest_as_a_lead():
+    # an invented rotated quadratic, κ = 1e6, with its minimum f* = 0 given: 1,500
+    # evaluations solve it from no start, but every set-up moves towards it
+    rng = np.random.default_rng(3)
+    q, _ = np.linalg.qr(rng.standard_normal((20, 20)))
+    a = q @ np.diag(np.logspace(0, 6, 20)) @ q.T
+    f, g = (lambda w: 0.5 * float((w - 1.0) @ a @ (w - 1.0))), (lambda w: a @ (w - 1.0))
+    advice = advise((f, g), np.zeros(20), loop="steepest", starts=1, budget=1_500,
+                    f_min=0.0)
+    assert not advice.found and advice.tentative
+    assert all(row.solved == 0 for row in advice.standings)
+    namespace = {name: getattr(linestep, name) for name in linestep.__all__}
+    controller, direction = eval(advice.code, namespace)
+    assert repr(controller) == repr(advice.controller)
+    assert isinstance(advice.direction, SteepestDescent)
+    assert advice.reasons[0].startswith("None of the")
+    assert advice.reasons[1].startswith(advice.code + " came closest")
+    assert "raise `budget`" in advice.reasons[1]
+    text = str(advice)
+    assert text.startswith("No set-up solved") and f"Closest (unconfirmed): {advice.code}" in text
+    assert advice.to_dict()["tentative"] is True
+    # the closest is the set-up whose runs left the least of the gap
+    closest = min((r for r in advice.study if r.kind != "failed"), key=lambda r: r.value)
+    assert advice.code == f"{closest.controller}, {closest.direction}"
+
+
 def test_resume_from_out_repeats_no_run(tmp_path):
     first = advise(bowl(), np.zeros(3), loop="steepest", starts=2, budget=6_000, out=tmp_path)
     calls = []

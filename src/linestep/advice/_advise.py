@@ -73,8 +73,9 @@ class Advice:
     Attributes
     ----------
     controller, direction
-        Fresh instances of the recommended set-up, ready to use (None when no
-        set-up solved from any start).
+        Fresh instances of the recommended set-up, ready to use. When no set-up
+        solved from any start, the one that came closest (see `tentative`), or
+        None when no set-up made progress without a failed run.
     code : str or None
         One line of Python that builds both, e.g. ``"BarzilaiBorwein(), SteepestDescent()"``
         (``controller, direction = eval(code)`` after ``from linestep import *``).
@@ -95,6 +96,11 @@ class Advice:
     budget : int
         The budget the study was given.
     loop : str
+    tentative : bool
+        True when no set-up solved from any start and `code` names the one that
+        came closest instead: no failed run and the least median fraction of the
+        gap to the best value seen left (a lead to confirm with a larger `budget`,
+        not a result). `found` is then False.
     """
 
     controller: Any
@@ -108,14 +114,17 @@ class Advice:
     evaluations: int
     budget: int
     loop: str
+    tentative: bool = False
 
     @property
     def found(self) -> bool:
         """True when some set-up solved from at least one start."""
-        return self.code is not None
+        return self.code is not None and not self.tentative
 
     def __str__(self) -> str:
         lines = [self.code if self.found else "No set-up solved the problem from any start."]
+        if self.tentative:
+            lines.append(f"Closest (unconfirmed): {self.code}")
         lines += [f"  {reason}" for reason in self.reasons]
         if self.avoid:
             lines.append("Avoid:")
@@ -126,7 +135,8 @@ class Advice:
         """Plain data for JSON: the code, the sentences, the smoothness and the standings."""
         s = self.smoothness
         return {
-            "code": self.code, "loop": self.loop, "reasons": list(self.reasons),
+            "code": self.code, "tentative": self.tentative, "loop": self.loop,
+            "reasons": list(self.reasons),
             "avoid": list(self.avoid), "evaluations": self.evaluations, "budget": self.budget,
             "smoothness": {"lipschitz": s.lipschitz, "safe_rate": s.safe_rate,
                            "limit_rate": s.limit_rate, "status": s.status,
@@ -348,23 +358,8 @@ def _finalists(results: Any, setups: list[_SetUp],
         limit = max(1, len(among) // 2)
     else:
         limit = FINALISTS
-    progress: dict[tuple[str, str], list[float]] = {}
-    finals: dict[tuple[str, str], list[Any]] = {}
-    failed: set[tuple[str, str]] = set()
-    for record in results:
-        key = (record.controller, record.direction)
-        reference = results.reference(record.instance)
-        if record.kind == "failed" or record.value is None or reference is None:
-            failed.add(key)
-            continue
-        start = record.initial_value - reference
-        progress.setdefault(key, []).append(
-            (record.value - reference) / start if start > 0 else 0.0)
-        finals.setdefault(key, []).append(record.value)
-    allowed = {(s.controller, s.direction) for s in setups}
-    order = [key for _, _, key in sorted(
-        (float(np.median(gaps)), index, key) for index, (key, gaps)
-        in enumerate(progress.items()) if key not in failed and key in allowed)]
+    gaps, finals = _gaps_left(results, {(s.controller, s.direction) for s in setups})
+    order = list(gaps)
     chosen: list[tuple[str, str]] = []
     families: set[str] = set()
     for first_pass in (True, False):
@@ -379,6 +374,28 @@ def _finalists(results: Any, setups: list[_SetUp],
             families.add(key[1])
     by_key = {(s.controller, s.direction): s for s in setups}
     return [by_key[key] for key in chosen if key in by_key]
+
+
+def _gaps_left(results: Any, allowed: set[tuple[str, str]]) -> tuple[dict, dict]:
+    """The set-ups in `allowed` with no failed run, most progress first: {key: median
+    remaining fraction of the gap (f − f_ref)/(f₀ − f_ref)} in that order, and {key: the
+    final values of its runs}."""
+    progress: dict[tuple[str, str], list[float]] = {}
+    finals: dict[tuple[str, str], list[Any]] = {}
+    failed: set[tuple[str, str]] = set()
+    for record in results:
+        key = (record.controller, record.direction)
+        reference = results.reference(record.instance)
+        if record.kind == "failed" or record.value is None or reference is None:
+            failed.add(key)
+            continue
+        start = record.initial_value - reference
+        progress.setdefault(key, []).append(
+            (record.value - reference) / start if start > 0 else 0.0)
+        finals.setdefault(key, []).append(record.value)
+    ranked = sorted((float(np.median(gaps)), index, key) for index, (key, gaps)
+                    in enumerate(progress.items()) if key not in failed and key in allowed)
+    return {key: gap for gap, _, key in ranked}, finals
 
 
 # --- the problem -----------------------------------------------------------------------
@@ -604,11 +621,23 @@ def _advice(results: Any, setups: list[_SetUp], smoothness: Smoothness, *, loop:
     common = {"smoothness": smoothness, "study": results, "standings": tuple(ranked),
               "evaluations": spent, "budget": budget, "loop": loop, "avoid": avoid}
     if not ranked or ranked[0].solved == 0:
-        reasons = (f"None of the {len(ranked)} set-ups solved from any of its starts within "
-                   f"its share of the budget of {budget} evaluations; see what to avoid "
-                   "below, raise `budget`, or check the objective and its gradient.",
-                   smooth_line)
-        return Advice(controller=None, direction=None, code=None, reasons=reasons, **common)
+        none = (f"None of the {len(ranked)} set-ups solved from any of its starts within "
+                f"its share of the budget of {budget} evaluations")
+        gaps, _ = _gaps_left(results, set(by_code))
+        if not gaps or next(iter(gaps.values())) >= 1.0:
+            reasons = (none + "; see what to avoid below, raise `budget`, or check the "
+                       "objective and its gradient.", smooth_line)
+            return Advice(controller=None, direction=None, code=None, reasons=reasons,
+                          **common)
+        # nothing solved, but runs made progress: the closest is a lead, not a result
+        key, gap = next(iter(gaps.items()))
+        setup, row = by_code[key], next(r for r in ranked if (r.controller, r.direction) == key)
+        reasons = (none + ".", f"{row.label} came closest: no run failed, and its runs ended "
+                   f"with a median {gap:.2g} of the gap between their start value and the "
+                   "reference (the known minimum, else the best value reached) still to "
+                   "close. Treat it as a lead: raise `budget` to confirm it.", smooth_line)
+        return Advice(controller=setup.build_controller(), direction=setup.build_direction(),
+                      code=row.label, reasons=reasons, tentative=True, **common)
     best = ranked[0]
     setup = by_code[(best.controller, best.direction)]
     reasons = [f"{best.label} solved from {best.solved} of {best.runs} starts with a median "

@@ -126,6 +126,9 @@ def recommendation_html(advice: Any) -> str:
     """The report's Recommendation section: the line to paste, the reasons, what to avoid."""
     code = (f"<pre><code>{html.escape(advice.code)}</code></pre>" if advice.found
             else "<p><b>No set-up solved the problem from any start.</b></p>")
+    if advice.tentative:
+        code += (f"<p>Closest (unconfirmed):</p><pre><code>{html.escape(advice.code)}"
+                 "</code></pre>")
     reasons = "".join(f"<li>{html.escape(text)}</li>" for text in advice.reasons)
     avoid = "".join(f"<li>{html.escape(text)}</li>" for text in advice.avoid)
     return ("<h2>Recommendation</h2>" + code + f"<ul>{reasons}</ul>"
