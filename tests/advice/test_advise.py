@@ -114,6 +114,9 @@ def test_budget_too_small_to_solve_names_the_closest_as_a_lead():
     text = str(advice)
     assert text.startswith("No set-up solved") and f"Closest (unconfirmed): {advice.code}" in text
     assert advice.to_dict()["tentative"] is True
+    from linestep.advice._command import recommendation_html
+
+    assert "Closest (unconfirmed)" in recommendation_html(advice)
     # the closest is the set-up whose runs left the least of the gap
     closest = min((r for r in advice.study if r.kind != "failed"), key=lambda r: r.value)
     assert advice.code == f"{closest.controller}, {closest.direction}"
