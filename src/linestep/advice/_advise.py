@@ -98,9 +98,10 @@ class Advice:
     loop : str
     tentative : bool
         True when no set-up solved from any start and `code` names the one that
-        came closest instead: no failed run and the least median fraction of the
-        gap to the best value seen left (a lead to confirm with a larger `budget`,
-        not a result). `found` is then False.
+        came closest instead: no failed run and the least median fraction left of
+        the gap between the start value and the reference (the known minimum, else
+        the best value reached): a lead to confirm with a larger `budget`, not a
+        result. `found` is then False.
     """
 
     controller: Any
@@ -214,10 +215,12 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     Returns
     -------
     Advice
-        When no set-up solves from any start, ``controller``, ``direction`` and
-        ``code`` are None and ``reasons`` say so, with the smoothness estimate;
-        ``avoid`` lists every failure. Runs whose objective raised are failures
-        with the error in ``avoid``.
+        When no set-up solves from any start, ``found`` is False and ``reasons``
+        say so, with the smoothness estimate; ``avoid`` lists every failure. If
+        some set-ups still made progress without a failed run, the closest is
+        given as a lead (``tentative`` True, ``controller``, ``direction`` and
+        ``code`` set); otherwise those three are None. Runs whose objective
+        raised are failures with the error in ``avoid``.
 
     Raises
     ------
