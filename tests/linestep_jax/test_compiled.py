@@ -249,6 +249,22 @@ def test_negative_curvature_grows_the_trial_as_on_the_host(name):
                if step.message)
 
 
+@pytest.mark.parametrize("name", [n for n in PAIR_NAMES if n.startswith("wolfe")])
+def test_wolfe_extrapolates_as_on_the_host_where_f_is_concave(name):
+    # Near 0 `ridge` is concave along −∇f, so the bracketing phase extrapolates, where
+    # a cubic with no minimiser ahead takes the blind step (the host's rule).
+    host, search, fused = _pairs()[name]
+    lockstep(host, search, ridge, jnp.array([0.3, -0.2, 0.1]), steps=6, fused=fused)
+
+
+def test_wolfe_on_a_concave_ray_matches_the_host_trial_for_trial():
+    # f(x) = −x² − 0.01x (invented, the concave ray of issue 14's repro): every cubic
+    # through two trials is degenerate; the twin must extrapolate as the host does.
+    host, search = Wolfe(max_size=1e6), lj.wolfe(max_size=1e6)
+    lockstep(host, search, lambda x: -jnp.sum(x * x) - 0.01 * jnp.sum(x),
+             jnp.zeros(1), steps=1, fused=True)
+
+
 def _host_steps(host, fun, x, steps: int) -> list:
     """`steps` steps of the host's pure-BB copy (its messages are not replaced by a
     globalising search's) from x."""

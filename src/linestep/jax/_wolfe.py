@@ -37,6 +37,7 @@ from linestep.searches.wolfe import (
     AGREE,
     EXTRAPOLATE_MIN,
     MARGIN,
+    MODEL_REACH,
     TRUSTED_MARGIN,
     VALUE_TIE,
     Wolfe,
@@ -120,11 +121,13 @@ class WolfeSearch(CompiledSearch):
         size = point.size
         increment = size - previous[0]
         low = size + min(EXTRAPOLATE_MIN, self.expand) * increment
-        high = size + self.expand * increment
+        blind = size + self.expand * increment
+        reach = size + MODEL_REACH * self.expand * increment
         model = _interpolate.cubic_from_slopes(previous[0], previous[1], previous[2],
                                                size, point.value, point.slope)
-        model = jnp.where(jnp.isnan(model) | (model > high), high,
-                          jnp.where(model < low, low, model))
+        # the host's rule: no minimiser beyond t takes the blind step, else [low, reach]
+        model = jnp.where(jnp.isnan(model) | (model <= size), blind,
+                          jnp.where(model < low, low, jnp.minimum(model, reach)))
         return jnp.where(model < self.max_size, model, self.max_size)
 
     # -- Alg. 3.6: shrink [lo, hi] until a trial satisfies both conditions -----------
