@@ -55,8 +55,6 @@ from linestep._step import ACCEPTED, ACCEPTED_MESSAGE, MESSAGES, Status, Step, s
 __all__ = ["Outcome", "StepController"]
 
 
-
-
 class Outcome:
     """What a controller's `_search` hook returns: where to move, why, and in what words.
 
