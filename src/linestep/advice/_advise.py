@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import math
 import pickle
-import sys
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from functools import partial
@@ -15,19 +14,10 @@ import numpy as np
 
 from linestep import _validate, stopping
 from linestep._objective import Objective
+from linestep.advice._candidates import SetUp, setups_for
+from linestep.advice._progress import close, reporter, shifted
 from linestep.advice._smoothness import Smoothness, estimate_smoothness
 from linestep.bench._rule import Standing, standings
-from linestep.directions import LBFGS, NonlinearCG, SteepestDescent
-from linestep.rules.barzilai_borwein import BarzilaiBorwein
-from linestep.rules.fallback import Fallback
-from linestep.rules.fixed import Fixed
-from linestep.rules.polyak import Polyak
-from linestep.rules.schedule import Schedule
-from linestep.searches.armijo import Armijo
-from linestep.searches.hager_zhang import HagerZhang
-from linestep.searches.more_thuente import MoreThuente
-from linestep.searches.nonmonotone import NonmonotoneArmijo
-from linestep.searches.wolfe import Wolfe
 
 __all__ = ["Advice", "advise"]
 
@@ -46,24 +36,8 @@ FINALISTS = 3
 ITERATION_ALLOWANCE = 10
 # Relative size of the perturbed starts: x0 + NOISE·max(1, ‖x0‖∞)·z, z standard normal.
 START_NOISE = 0.1
-# Fixed rates tried, as multiples of 1/L̂ (below the stable limit 2/L̂).
-FIXED_MULTIPLES = (0.5, 1.0, 1.8)
-# The inverse-time schedule's decay: t_k = t₀/(1 + SCHEDULE_DECAY·k).
-SCHEDULE_DECAY = 0.01
-# Digits kept in the rates written into set-ups (so the pasted line is short).
-RATE_DIGITS = 3
 
 _LOOPS = ("any", "steepest", "quasi_newton")
-
-
-@dataclass(frozen=True, slots=True)
-class _SetUp:
-    """A controller and a direction, as pasteable code and as factories."""
-
-    controller: str
-    direction: str
-    build_controller: Callable[[], Any]
-    build_direction: Callable[[], Any]
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -250,7 +224,7 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
     from linestep.bench import Results, Start
 
     smoothness = _probe(problem, probe_seed)
-    setups = _setups(loop, smoothness, problem)
+    setups = setups_for(loop, smoothness, problem)
     count = 1 + len(seeds)
     runs = len(setups) * count
     budget = DEFAULT_BUDGET if budget is None else _validate.integer("budget", budget)
@@ -266,7 +240,7 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
         workers = 1  # the harness would refuse: functions defined in place do not pickle
     rounds = partial(_round, problem, [Start.standard()] + (
         [Start.perturbed(START_NOISE)] if seeds else []), seeds or (0,), out, workers)
-    report = _progress(progress, runs)
+    report = reporter(progress, runs)
     try:
         records = rounds(setups, share, report, 0, runs)
         spent = smoothness.evaluations.total + sum(r.evaluations for r in records)
@@ -289,20 +263,20 @@ def advise(objective: Any, x0: Any = None, *, loop: str = "any", budget: int | N
             candidates = _finalists(results, setups, among=candidates)
     finally:
         if report is not None:
-            _close(report)
+            close(report)
     results = Results(records, solve_rtol=results.solve_rtol)
     return _advice(results, setups, smoothness, loop=loop, budget=budget, spent=spent)
 
 
 def _round(problem: Any, starts: list[Any], seeds: tuple[int, ...], out: Any, workers: int,
-           setups: list[_SetUp], share: int, report: Any, offset: int,
+           setups: list[SetUp], share: int, report: Any, offset: int,
            total: int) -> list[Any]:
     """Run `setups` from every start with `share` evaluations per run (one Study per
     direction, through the bench harness); return the records."""
     from linestep.bench import Study, run_study
 
     stop = stopping.default(max_iterations=share, max_evaluations=share)
-    families: dict[str, list[_SetUp]] = {}
+    families: dict[str, list[SetUp]] = {}
     for setup in setups:
         families.setdefault(setup.direction, []).append(setup)
     records: list[Any] = []
@@ -312,13 +286,13 @@ def _round(problem: Any, starts: list[Any], seeds: tuple[int, ...], out: Any, wo
                       directions={direction: members[0].build_direction},
                       starts=starts, seeds=seeds, stop=stop, exclude=None)
         callback = None if report is None else partial(
-            _shifted, report, offset + len(records), total)
+            shifted, report, offset + len(records), total)
         records += list(run_study(study, out, workers=workers, progress=callback))
     return records
 
 
-def _next_round(candidates: list[_SetUp], left: int, count: int,
-                share: int) -> tuple[list[_SetUp], int]:
+def _next_round(candidates: list[SetUp], left: int, count: int,
+                share: int) -> tuple[list[SetUp], int]:
     """The set-ups of the next round and their share per run, from `left` evaluations.
 
     Successive halving: the share per run at least doubles from round to round.
@@ -340,8 +314,8 @@ def _next_round(candidates: list[_SetUp], left: int, count: int,
     return [], 0
 
 
-def _finalists(results: Any, setups: list[_SetUp],
-               among: list[_SetUp] | None = None) -> list[_SetUp]:
+def _finalists(results: Any, setups: list[SetUp],
+               among: list[SetUp] | None = None) -> list[SetUp]:
     """When no set-up solved from every start: up to FINALISTS set-ups with no failed run,
     ranked by their median remaining fraction of the gap (f − f_ref)/(f₀ − f_ref); the
     best of each direction family first, then the next best, leaving out set-ups whose
@@ -495,127 +469,10 @@ def _travels(problem: Any) -> bool:
     return True
 
 
-# --- the set-ups -----------------------------------------------------------------------
-
-
-def _rate(value: float) -> float:
-    return float(f"{value:.{RATE_DIGITS}g}")
-
-
-def _setups(loop: str, smoothness: Smoothness, problem: Any) -> list[_SetUp]:
-    setups: list[_SetUp] = []
-    if loop in ("any", "steepest"):
-        direction = ("SteepestDescent()", SteepestDescent)
-
-        def add(code: str, build: Callable[[], Any]) -> None:
-            setups.append(_SetUp(code, direction[0], build, direction[1]))
-
-        if smoothness.ok:
-            for multiple in FIXED_MULTIPLES:
-                rate = _rate(multiple / smoothness.lipschitz)
-                add(f"Fixed({rate!r})", partial(Fixed, rate))
-            rate = _rate(1.0 / smoothness.lipschitz)
-            add(f"Schedule.robbins_monro({rate!r}, rate={SCHEDULE_DECAY!r})",
-                partial(Schedule.robbins_monro, rate, rate=SCHEDULE_DECAY))
-        for code, build in _searches():
-            add(code, build)
-        add("BarzilaiBorwein()", BarzilaiBorwein)
-        add("BarzilaiBorwein(variant='long')", partial(BarzilaiBorwein, variant="long"))
-        if problem.optimal_values:
-            f_min = min(problem.optimal_values)
-            add(f"Polyak(f_min={f_min!r})", partial(Polyak, f_min=f_min))
-        if smoothness.ok:
-            rate = _rate(FIXED_MULTIPLES[-1] / smoothness.lipschitz)
-            add(f"Fallback(Fixed({rate!r}), Armijo())", partial(_fallback, rate))
-    if loop in ("any", "quasi_newton"):
-        # (Fallback(Fixed(1.0), Armijo()) would repeat Armijo(), whose first trial is 1.0)
-        for code, build in [("Fixed(1.0)", partial(Fixed, 1.0)), *_searches(nonmonotone=False)]:
-            setups.append(_SetUp(code, "LBFGS()", build, LBFGS))
-    if loop == "any":
-        for code, build in [("Wolfe()", Wolfe), ("HagerZhang()", HagerZhang),
-                            ("MoreThuente()", MoreThuente)]:
-            setups.append(_SetUp(code, "NonlinearCG()", build, NonlinearCG))
-    return setups
-
-
-def _searches(nonmonotone: bool = True) -> list[tuple[str, Callable[[], Any]]]:
-    entries = [("Armijo()", Armijo), ("Wolfe()", Wolfe), ("HagerZhang()", HagerZhang),
-               ("MoreThuente()", MoreThuente)]
-    if nonmonotone:
-        entries.append(("NonmonotoneArmijo()", NonmonotoneArmijo))
-    return entries
-
-
-def _fallback(rate: float) -> Fallback:
-    return Fallback(Fixed(rate), Armijo())
-
-
-# --- progress --------------------------------------------------------------------------
-
-
-class _TextBar:
-    """A line per tenth of the runs on stderr (when tqdm is not installed)."""
-
-    def __init__(self, total: int) -> None:
-        self.total, self.tenth = total, -1
-
-    def update(self, done: int, total: int) -> None:
-        self.total = total
-        tenth = 10 * done // max(self.total, 1)
-        if tenth > self.tenth:
-            self.tenth = tenth
-            print(f"linestep advise: {done}/{self.total} runs", file=sys.stderr)
-
-    def close(self) -> None:
-        pass
-
-
-class _TqdmBar:
-    def __init__(self, total: int) -> None:
-        from tqdm import tqdm
-
-        self.bar = tqdm(total=total, desc="linestep advise", unit="run", leave=False)
-
-    def update(self, done: int, total: int) -> None:
-        if total != self.bar.total:
-            self.bar.total = total
-        self.bar.update(done - self.bar.n)
-
-    def close(self) -> None:
-        self.bar.close()
-
-
-def _progress(progress: Any, total: int) -> Any:
-    if progress is False:
-        return None
-    if callable(progress) and progress is not True:
-        return progress
-    try:
-        import tqdm  # noqa: F401
-        has_tqdm = True
-    except ImportError:
-        has_tqdm = False
-    if progress is None and not (has_tqdm and sys.stderr.isatty()):
-        return None
-    return _TqdmBar(total) if has_tqdm else _TextBar(total)
-
-
-def _shifted(report: Any, offset: int, total: int, done: int, _: int, record: Any) -> None:
-    if isinstance(report, (_TqdmBar, _TextBar)):
-        report.update(offset + done, total)
-    else:
-        report(offset + done, total, record)
-
-
-def _close(report: Any) -> None:
-    if isinstance(report, (_TqdmBar, _TextBar)):
-        report.close()
-
-
 # --- the recommendation ----------------------------------------------------------------
 
 
-def _advice(results: Any, setups: list[_SetUp], smoothness: Smoothness, *, loop: str,
+def _advice(results: Any, setups: list[SetUp], smoothness: Smoothness, *, loop: str,
             budget: int, spent: int) -> Advice:
     ranked = standings(results)
     by_code = {(s.controller, s.direction): s for s in setups}
