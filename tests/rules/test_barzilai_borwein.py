@@ -31,6 +31,8 @@ from linestep import (
     descend,
     stopping,
 )
+from linestep._controller import Outcome
+from linestep._step import MESSAGES
 from linestep.rules.barzilai_borwein import BarzilaiBorwein
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
@@ -246,6 +248,35 @@ def test_negative_curvature_doubles_the_previous_trial():
     _, steps = run(BarzilaiBorwein(first=1.0, globalize=None), f, g, np.array([0.3]), 2)
     assert steps[1].status is Status.accepted and steps[1].size == 2.0
     assert "sᵀy" in steps[1].message and "doubled" in steps[1].message
+
+
+class _Saying(Armijo):
+    """Armijo that ends with a sentence of its own, or fails after its first call."""
+
+    def __init__(self, fail):
+        super().__init__()
+        self.fail, self.calls = fail, 0
+
+    def _search(self, ray, first):
+        self.calls += 1
+        if self.fail and self.calls > 1:
+            return Outcome(None, Status.max_evaluations)
+        outcome = super()._search(ray, first)
+        return Outcome(outcome.point, outcome.status, "The search's own sentence.")
+
+
+@pytest.mark.parametrize("fail", [False, True])
+def test_negative_curvature_note_is_kept_beside_the_search_message(fail):
+    # The cos ray of the test above, globalised by a search that has its own message (or
+    # fails with the status's default one): the step says both, BB's note first.
+    f, g = (lambda x: float(np.cos(x[0]))), (lambda x: -np.sin(x))
+    _, steps = run(BarzilaiBorwein(first=1.0, globalize=_Saying(fail)), f, g,
+                   np.array([0.3]), 2)
+    message = steps[1].message
+    assert "doubled" in message
+    said = MESSAGES[Status.max_evaluations] if fail else "The search's own sentence."
+    assert message.endswith(said) and message.index("doubled") < message.index(said)
+    assert steps[1].status is (Status.max_evaluations if fail else Status.accepted)
 
 
 def test_negative_curvature_growth_stops_at_max_size():

@@ -12,7 +12,7 @@ from linestep._constants import DIRECTION_RTOL, NEGATIVE_CURVATURE_GROWTH
 from linestep._controller import Outcome, StepController
 from linestep._ray import Point, Ray
 from linestep._rebuild import call
-from linestep._step import Status
+from linestep._step import MESSAGES, Status
 from linestep.searches.nonmonotone import NonmonotoneArmijo
 
 __all__ = ["BarzilaiBorwein"]
@@ -49,7 +49,8 @@ class BarzilaiBorwein(StepController):
     α is clipped to [`min_size`, `max_size`]. When sᵀy ≤ 0 with s ≠ 0 (f is
     not convex along s) the previous BB trial step is doubled (the globalising
     search cuts it back if that is too far); when s = 0 (x did not move) or the
-    quotient is not finite it is reused. The message says which. The
+    quotient is not finite it is reused. The message says which, before the
+    search's own message when it has one. The
     very first call, with no previous point, takes its step from `first`, capped
     at `max_size` but not lifted to `min_size`: the default moves x by a
     distance of 1 whatever the size of the gradient, so a start gradient of 1e42
@@ -89,7 +90,7 @@ class BarzilaiBorwein(StepController):
         ``accepted``: with a search, the search accepted `size` (its condition
         holds); without, `size` is the clipped BB step and `x` = x + size·d, whose
         value may be above f(x). The message says when sᵀy ≤ 0 forced the
-        fallback.
+        fallback (then the search's message, if any).
         ``non_finite``: no finite value along d (without a search: at the BB step);
         `x` unchanged, size 0.
         ``step_too_small``, ``max_evaluations``: from the search; `x` unchanged.
@@ -190,9 +191,13 @@ class BarzilaiBorwein(StepController):
                 ))
             return Outcome(point, message=note)
         outcome = self._delegate(self.globalize, ray, first=size)
-        if note is not None and outcome.status is Status.accepted and outcome.message is None:
-            return Outcome(outcome.point, outcome.status, note)
-        return outcome
+        if note is None:
+            return outcome
+        # Both sentences: why the trial was not a BB quotient, then what the search said.
+        said = outcome.message
+        if said is None and outcome.status is not Status.accepted:
+            said = MESSAGES[outcome.status]
+        return Outcome(outcome.point, outcome.status, note if said is None else f"{note} {said}")
 
     # -- the BB step -----------------------------------------------------------------
     def _propose(self, origin: Point, first: float) -> tuple[float, str | None]:
