@@ -88,7 +88,10 @@ def assert_twin(twin, host, a, b):
                                  abs=16 * np.finfo(float).eps * size * condition)
 
 
-finite = st.floats(-1e3, 1e3, allow_nan=False)
+# No subnormals: XLA on CPU flushes them to zero, so a bracket of subnormal width is zero
+# wide to the twin (NaN) but not to the host. Neither search interpolates across such a
+# bracket: both end at the rounding floor first.
+finite = st.floats(-1e3, 1e3, allow_nan=False, allow_subnormal=False)
 positive = st.floats(1e-3, 1e3)
 
 
