@@ -64,7 +64,7 @@ def _controllers(problem: Calibration) -> list[tuple[str, Callable[[], object]]]
     from linestep.bench._label import short_label
     from linestep.rules.schedule import Schedule
 
-    safe = 1.0 / problem.lipschitz
+    safe = float(f"{1.0 / problem.lipschitz:.3g}")  # 3 digits: the label stays readable
     builds: list[Callable[[], object]] = [
         lambda: Fixed(TOO_LARGE_RATE),
         lambda: Fallback(Fixed(TOO_LARGE_RATE), Armijo()),
