@@ -297,7 +297,7 @@ class StepController(Rebuilds):
                 start_gradients: int) -> Step:
         point, status, message = outcome.point, outcome.status, outcome.message
         if status is not ACCEPTED or point is None or not point.value < math.inf:
-            point, status = _settle(ray, point, status)
+            point, status = settle(ray, point, status)
         if status is ACCEPTED:
             if self.initial.__class__ is not _CONSTANT:  # a constant reads no memory
                 self._remember(ray, point)
@@ -322,8 +322,9 @@ def _code(fun: Any) -> Any:
     return code if code is not None else (type(fun) if fun is not None else None)
 
 
-def _settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Status]:
-    """The point to return and its status when the search did not simply accept a point."""
+def settle(ray: Ray, point: Point | None, status: Status) -> tuple[Point, Status]:
+    """The point to return and its status when the search did not simply accept a point
+    (a composite that words its own message calls it to name the final status)."""
     origin = ray.origin
     if point is not None and (
         not point.value < math.inf

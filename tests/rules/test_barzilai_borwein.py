@@ -279,6 +279,29 @@ def test_negative_curvature_note_is_kept_beside_the_search_message(fail):
     assert steps[1].status is (Status.max_evaluations if fail else Status.accepted)
 
 
+class _Lost(Armijo):
+    """Armijo whose later calls evaluate one non-finite point and give up."""
+
+    def _search(self, ray, first):
+        if ray.origin.x[0] < 0.5:
+            return super()._search(ray, first)
+        ray.value(first)
+        return Outcome(None, Status.step_too_small)
+
+
+def test_negative_curvature_note_names_the_status_the_step_reports():
+    # f (invented) is cos x below 1.5 and NaN beyond; the doubled BB trial lands beyond, and
+    # the search gives up having seen no finite value, so the step reports non_finite: the
+    # sentence after BB's note must be that status's, not step_too_small's.
+    f = lambda x: float(np.cos(x[0])) if x[0] < 1.5 else math.nan  # noqa: E731
+    g = lambda x: -np.sin(x)  # noqa: E731
+    _, steps = run(BarzilaiBorwein(first=1.0, globalize=_Lost()), f, g, np.array([0.3]), 2)
+    assert steps[1].status is Status.non_finite
+    assert "doubled" in steps[1].message
+    assert steps[1].message.endswith(MESSAGES[Status.non_finite])
+    assert steps[1].size == 0.0
+
+
 def test_negative_curvature_growth_stops_at_max_size():
     # f = −x² (invented, concave): every pair has sᵀy < 0, so the trial doubles each call.
     f, g = (lambda x: -float(x @ x)), (lambda x: -2.0 * x)

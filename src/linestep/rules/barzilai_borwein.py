@@ -9,7 +9,7 @@ import numpy as np
 
 from linestep import _array, _initial, _validate
 from linestep._constants import DIRECTION_RTOL, NEGATIVE_CURVATURE_GROWTH
-from linestep._controller import Outcome, StepController
+from linestep._controller import Outcome, StepController, settle
 from linestep._ray import Point, Ray
 from linestep._rebuild import call
 from linestep._step import MESSAGES, Status
@@ -193,11 +193,15 @@ class BarzilaiBorwein(StepController):
         outcome = self._delegate(self.globalize, ray, first=size)
         if note is None:
             return outcome
-        # Both sentences: why the trial was not a BB quotient, then what the search said.
-        said = outcome.message
-        if said is None and outcome.status is not Status.accepted:
-            said = MESSAGES[outcome.status]
-        return Outcome(outcome.point, outcome.status, note if said is None else f"{note} {said}")
+        # Both sentences: why the trial was not a BB quotient, then what the search said
+        # (for a failure without a sentence, the default of the status the base will
+        # report: settled here by the base's own rule, which may make it non_finite).
+        point, status, said = outcome.point, outcome.status, outcome.message
+        if status is not Status.accepted:
+            point, status = settle(ray, point, status)
+            if said is None:
+                said = MESSAGES[status]
+        return Outcome(point, status, note if said is None else f"{note} {said}")
 
     # -- the BB step -----------------------------------------------------------------
     def _propose(self, origin: Point, first: float) -> tuple[float, str | None]:
